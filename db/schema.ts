@@ -1,0 +1,251 @@
+/**
+ * Counterpart's database schema (Drizzle, PostgreSQL). Row types come from here
+ * ($inferSelect / $inferInsert); migrations in db/migrations are generated from it
+ * with `npm run db:generate` and reviewed before commit.
+ */
+import { sql } from 'drizzle-orm'
+import {
+  bigserial,
+  boolean,
+  customType,
+  doublePrecision,
+  index,
+  integer,
+  jsonb,
+  pgTable,
+  primaryKey,
+  serial,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from 'drizzle-orm/pg-core'
+
+const bytea = customType<{ data: Buffer; driverData: Buffer }>({
+  dataType: () => 'bytea',
+})
+
+const createdAt = () => timestamp('created_at', { withTimezone: true }).notNull().defaultNow()
+
+// ---------------------------------------------------------------- people
+
+export const users = pgTable('users', {
+  id: serial('id').primaryKey(),
+  email: text('email').notNull().unique(),
+  name: text('name').notNull(),
+  role: text('role', { enum: ['admin', 'analyst', 'reviewer'] }).notNull(),
+  passwordHash: text('password_hash'),
+  active: boolean('active').notNull().default(true),
+  createdAt: createdAt(),
+})
+
+export const invitations = pgTable('invitations', {
+  id: serial('id').primaryKey(),
+  email: text('email').notNull(),
+  name: text('name').notNull(),
+  role: text('role', { enum: ['admin', 'analyst', 'reviewer'] }).notNull(),
+  tokenHash: text('token_hash').notNull().unique(),
+  invitedBy: integer('invited_by').references(() => users.id),
+  expiresAt: timestamp('expires_at', { withTimezone: true }).notNull(),
+  acceptedAt: timestamp('accepted_at', { withTimezone: true }),
+  createdAt: createdAt(),
+})
+
+/** Every sign-in attempt, kept to throttle guessing per account and per address. */
+export const signInAttempts = pgTable('sign_in_attempts', {
+  id: bigserial('id', { mode: 'number' }).primaryKey(),
+  email: text('email').notNull(),
+  ip: text('ip').notNull(),
+  success: boolean('success').notNull(),
+  at: timestamp('at', { withTimezone: true }).notNull().defaultNow(),
+}, t => [
+  index('sign_in_attempts_email_at').on(t.email, t.at),
+  index('sign_in_attempts_ip_at').on(t.ip, t.at),
+])
+
+/** What the application sent by e-mail (the mail catcher holds what arrived). */
+export const mailOutbox = pgTable('mail_outbox', {
+  id: serial('id').primaryKey(),
+  to: text('to').notNull(),
+  subject: text('subject').notNull(),
+  text: text('text').notNull(),
+  sentAt: timestamp('sent_at', { withTimezone: true }),
+  error: text('error'),
+  createdAt: createdAt(),
+})
+
+// ---------------------------------------------------------------- registry
+
+export const jurisdictions = pgTable('jurisdictions', {
+  id: serial('id').primaryKey(),
+  code: text('code').notNull().unique(),
+  name: text('name').notNull(),
+  kind: text('kind').notNull(),
+  region: text('region'),
+  attributes: jsonb('attributes').$type<Record<string, unknown>>().notNull().default({}),
+  createdAt: createdAt(),
+})
+
+export const jurisdictionNeighbours = pgTable('jurisdiction_neighbours', {
+  jurisdictionId: integer('jurisdiction_id').notNull().references(() => jurisdictions.id, { onDelete: 'cascade' }),
+  neighbourId: integer('neighbour_id').notNull().references(() => jurisdictions.id, { onDelete: 'cascade' }),
+}, t => [primaryKey({ columns: [t.jurisdictionId, t.neighbourId] })])
+
+export const sources = pgTable('sources', {
+  id: serial('id').primaryKey(),
+  name: text('name').notNull(),
+  publisher: text('publisher').notNull(),
+  url: text('url'),
+  licence: text('licence'),
+  notes: text('notes'),
+  createdBy: integer('created_by').references(() => users.id),
+  createdAt: createdAt(),
+})
+
+export const sourceReleases = pgTable('source_releases', {
+  id: serial('id').primaryKey(),
+  sourceId: integer('source_id').notNull().references(() => sources.id),
+  label: text('label'),
+  fileName: text('file_name').notNull(),
+  checksum: text('checksum').notNull(),
+  file: bytea('file'),
+  sizeBytes: integer('size_bytes').notNull(),
+  mapping: jsonb('mapping').$type<Record<string, unknown>>().notNull(),
+  status: text('status', { enum: ['importing', 'done', 'failed'] }).notNull().default('importing'),
+  rowCount: integer('row_count').notNull().default(0),
+  errors: jsonb('errors').$type<unknown[]>(),
+  createdBy: integer('created_by').references(() => users.id),
+  createdAt: createdAt(),
+  importedAt: timestamp('imported_at', { withTimezone: true }),
+}, t => [index('source_releases_source_checksum').on(t.sourceId, t.checksum)])
+
+export const measures = pgTable('measures', {
+  id: serial('id').primaryKey(),
+  key: text('key').notNull().unique(),
+  label: text('label').notNull(),
+  unit: text('unit').notNull(),
+  kind: text('kind', { enum: ['outcome', 'covariate', 'denominator'] }).notNull(),
+  frequency: text('frequency', { enum: ['year', 'quarter', 'month', 'week', 'day'] }).notNull(),
+  createdAt: createdAt(),
+})
+
+/**
+ * One value of one measure for one jurisdiction and period, as published in one release.
+ * Reads take the newest release per (measure, jurisdiction, period); older releases stay.
+ */
+export const observations = pgTable('observations', {
+  releaseId: integer('release_id').notNull().references(() => sourceReleases.id, { onDelete: 'cascade' }),
+  measureId: integer('measure_id').notNull().references(() => measures.id),
+  jurisdictionId: integer('jurisdiction_id').notNull().references(() => jurisdictions.id),
+  period: text('period').notNull(),
+  value: doublePrecision('value').notNull(),
+}, t => [
+  primaryKey({ columns: [t.releaseId, t.measureId, t.jurisdictionId, t.period] }),
+  index('observations_panel_read').on(t.measureId, t.jurisdictionId, t.period, t.releaseId),
+])
+
+export const policyEvents = pgTable('policy_events', {
+  id: serial('id').primaryKey(),
+  jurisdictionId: integer('jurisdiction_id').notNull().references(() => jurisdictions.id),
+  period: text('period').notNull(),
+  kind: text('kind', { enum: ['adoption', 'strengthening', 'repeal'] }).notNull(),
+  policy: text('policy').notNull(),
+  label: text('label').notNull(),
+  notes: text('notes'),
+  createdBy: integer('created_by').references(() => users.id),
+  createdAt: createdAt(),
+}, t => [index('policy_events_jurisdiction').on(t.jurisdictionId)])
+
+// ---------------------------------------------------------------- studies
+
+export const studies = pgTable('studies', {
+  id: serial('id').primaryKey(),
+  title: text('title').notNull(),
+  question: text('question'),
+  ownerId: integer('owner_id').notNull().references(() => users.id),
+  status: text('status', { enum: ['draft', 'in_review', 'approved', 'archived'] }).notNull().default('draft'),
+  outcome: text('outcome').notNull(),
+  transform: text('transform', { enum: ['level', 'log', 'rate'] }).notNull().default('level'),
+  denominator: text('denominator'),
+  treated: jsonb('treated').$type<string[]>().notNull(),
+  start: jsonb('start').$type<string | Record<string, string>>().notNull(),
+  interventions: jsonb('interventions').$type<{ jurisdiction: string, period: string, label: string }[]>().notNull().default([]),
+  window: jsonb('window').$type<{ pre: [string, string], post: [string, string] } | null>(),
+  covariates: jsonb('covariates').$type<string[]>().notNull().default([]),
+  reviewerId: integer('reviewer_id').references(() => users.id),
+  parentId: integer('parent_id'),
+  version: integer('version').notNull().default(1),
+  lockedAt: timestamp('locked_at', { withTimezone: true }),
+  createdAt: createdAt(),
+  updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),
+})
+
+export const studyPoolDecisions = pgTable('study_pool_decisions', {
+  studyId: integer('study_id').notNull().references(() => studies.id, { onDelete: 'cascade' }),
+  jurisdictionId: integer('jurisdiction_id').notNull().references(() => jurisdictions.id),
+  included: boolean('included').notNull(),
+  reason: text('reason'),
+  decidedBy: integer('decided_by').references(() => users.id),
+  decidedAt: timestamp('decided_at', { withTimezone: true }).notNull().defaultNow(),
+}, t => [primaryKey({ columns: [t.studyId, t.jurisdictionId] })])
+
+export const studyRuns = pgTable('study_runs', {
+  id: serial('id').primaryKey(),
+  studyId: integer('study_id').notNull().references(() => studies.id, { onDelete: 'cascade' }),
+  design: text('design').notNull(),
+  spec: jsonb('spec').$type<Record<string, unknown>>().notNull(),
+  fingerprint: text('fingerprint').notNull(),
+  releaseIds: jsonb('release_ids').$type<number[]>().notNull().default([]),
+  result: jsonb('result').$type<Record<string, unknown>>().notNull(),
+  createdBy: integer('created_by').references(() => users.id),
+  createdAt: createdAt(),
+}, t => [index('study_runs_study').on(t.studyId)])
+
+export const validityNotes = pgTable('validity_notes', {
+  id: serial('id').primaryKey(),
+  studyId: integer('study_id').notNull().references(() => studies.id, { onDelete: 'cascade' }),
+  threat: text('threat').notNull(),
+  assessment: text('assessment', { enum: ['addressed', 'partly', 'open'] }).notNull(),
+  note: text('note').notNull().default(''),
+  evidence: jsonb('evidence').$type<{ kind: string, ref: string, label?: string }[]>().notNull().default([]),
+  updatedBy: integer('updated_by').references(() => users.id),
+  updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),
+}, t => [uniqueIndex('validity_notes_study_threat').on(t.studyId, t.threat)])
+
+export const comments = pgTable('comments', {
+  id: serial('id').primaryKey(),
+  studyId: integer('study_id').notNull().references(() => studies.id, { onDelete: 'cascade' }),
+  authorId: integer('author_id').notNull().references(() => users.id),
+  body: text('body').notNull(),
+  createdAt: createdAt(),
+})
+
+// ---------------------------------------------------------------- operations
+
+export const auditLog = pgTable('audit_log', {
+  id: bigserial('id', { mode: 'number' }).primaryKey(),
+  at: timestamp('at', { withTimezone: true }).notNull().defaultNow(),
+  userId: integer('user_id').references(() => users.id),
+  action: text('action').notNull(),
+  entity: text('entity').notNull(),
+  entityId: text('entity_id'),
+  before: jsonb('before'),
+  after: jsonb('after'),
+}, t => [index('audit_log_entity').on(t.entity, t.entityId), index('audit_log_at').on(t.at)])
+
+/** Our view of a background job (pg-boss runs it); the worker writes progress here. */
+export const jobs = pgTable('jobs', {
+  id: uuid('id').primaryKey().default(sql`gen_random_uuid()`),
+  kind: text('kind').notNull(),
+  state: text('state', { enum: ['queued', 'running', 'done', 'failed'] }).notNull().default('queued'),
+  progress: doublePrecision('progress').notNull().default(0),
+  message: text('message'),
+  result: jsonb('result'),
+  createdBy: integer('created_by').references(() => users.id),
+  createdAt: createdAt(),
+  updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),
+})
+
+export type User = typeof users.$inferSelect
+export type Role = User['role']
+export const ROLES = ['admin', 'analyst', 'reviewer'] as const satisfies readonly Role[]
