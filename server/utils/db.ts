@@ -1,0 +1,24 @@
+/** The database handle shared by every route: one pg pool per server process. */
+import { drizzle, type NodePgDatabase } from 'drizzle-orm/node-postgres'
+import pg from 'pg'
+import * as schema from '~~/db/schema'
+
+export type Db = NodePgDatabase<typeof schema>
+
+let pool: pg.Pool | undefined
+let handle: Db | undefined
+
+export function usePool(): pg.Pool {
+  if (!pool) {
+    const url = process.env.DATABASE_URL || useRuntimeConfig().databaseUrl
+    pool = new pg.Pool({ connectionString: url, max: 10 })
+  }
+  return pool
+}
+
+export function useDb(): Db {
+  if (!handle) handle = drizzle(usePool(), { schema })
+  return handle
+}
+
+export { schema }
