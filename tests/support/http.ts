@@ -1,0 +1,91 @@
+/**
+ * HTTP helpers for the API suite: a tiny client with a cookie jar that signs in through
+ * next-auth's credentials flow (csrf -> callback -> session cookie), as a browser would.
+ * The server under test is COUNTERPART_TEST_URL (scripts/test.sh starts it).
+ */
+export const BASE_URL = process.env.COUNTERPART_TEST_URL ?? 'http://127.0.0.1:3100'
+export const DEMO_PASSWORD = 'counterpart-demo'
+export const DEMO = {
+  admin: 'admin@counterpart.test',
+  analyst: 'analyst@counterpart.test',
+  reviewer: 'reviewer@counterpart.test',
+} as const
+
+export interface Reply<T = any> { status: number, body: T, headers: Headers }
+
+export class Client {
+  private cookies = new Map<string, string>()
+
+  constructor(private readonly headers: Record<string, string> = {}) {}
+
+  private cookieHeader(): string {
+    return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ')
+  }
+
+  private keep(res: Response) {
+    for (const c of res.headers.getSetCookie()) {
+      const [pair] = c.split(';')
+      const i = pair!.indexOf('=')
+      this.cookies.set(pair!.slice(0, i), pair!.slice(i + 1))
+    }
+  }
+
+  async raw(path: string, init: RequestInit = {}): Promise<Response> {
+    const res = await fetch(BASE_URL + path, {
+      redirect: 'manual',
+      ...init,
+      headers: { ...this.headers, cookie: this.cookieHeader(), ...(init.headers as Record<string, string> | undefined) },
+    })
+    this.keep(res)
+    return res
+  }
+
+  async request<T = any>(method: string, path: string, body?: unknown): Promise<Reply<T>> {
+    const init: RequestInit = { method }
+    if (body instanceof FormData) init.body = body
+    else if (body !== undefined) {
+      init.body = JSON.stringify(body)
+      init.headers = { 'content-type': 'application/json' }
+    }
+    const res = await this.raw(path, init)
+    const text = await res.text()
+    let parsed: unknown = text
+    try {
+      parsed = text ? JSON.parse(text) : null
+    }
+    catch { /* not JSON: keep the text */ }
+    return { status: res.status, body: parsed as T, headers: res.headers }
+  }
+
+  get<T = any>(path: string) { return this.request<T>('GET', path) }
+  post<T = any>(path: string, body?: unknown) { return this.request<T>('POST', path, body) }
+  put<T = any>(path: string, body?: unknown) { return this.request<T>('PUT', path, body) }
+  patch<T = any>(path: string, body?: unknown) { return this.request<T>('PATCH', path, body) }
+  delete<T = any>(path: string) { return this.request<T>('DELETE', path) }
+
+  /** Signs in; returns the error text next-auth reports, or null on success. */
+  async signIn(email: string, password = DEMO_PASSWORD): Promise<string | null> {
+    const { body } = await this.get<{ csrfToken: string }>('/api/auth/csrf')
+    const form = new URLSearchParams({ csrfToken: body.csrfToken, email, password, callbackUrl: `${BASE_URL}/`, json: 'true' })
+    const res = await this.raw('/api/auth/callback/credentials', {
+      method: 'POST',
+      body: form,
+      headers: { 'content-type': 'application/x-www-form-urlencoded' },
+    })
+    const reply = await res.json() as { url: string }
+    const error = new URL(reply.url).searchParams.get('error')
+    return error
+  }
+}
+
+/** A client signed in as one of the demo roles (each call gets its own address for throttling). */
+export async function as(role: keyof typeof DEMO): Promise<Client> {
+  const client = new Client({ 'x-forwarded-for': `test-client-${Math.random().toString(36).slice(2, 10)}` })
+  const error = await client.signIn(DEMO[role])
+  if (error) throw new Error(`could not sign in as ${role}: ${error}`)
+  return client
+}
+
+export function anonymous(): Client {
+  return new Client()
+}
