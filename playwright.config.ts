@@ -14,6 +14,7 @@ export default defineConfig({
   expect: { timeout: 10_000 },
   use: {
     baseURL: process.env.COUNTERPART_TEST_URL ?? 'http://127.0.0.1:3100',
+    testIdAttribute: 'data-test',
     screenshot: 'on',
     trace: 'retain-on-failure',
     launchOptions: {

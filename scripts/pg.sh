@@ -58,7 +58,9 @@ psql_super() { as_pg "$(pg_bin)/../bin/psql" -h "$SOCK_DIR" -p "$PG_PORT" -U pos
 ensure_database() {
   local name="$1"
   if [ "$(psql_super -c "SELECT 1 FROM pg_roles WHERE rolname='$DB_USER'")" != 1 ]; then
-    psql_super -c "CREATE ROLE $DB_USER LOGIN PASSWORD '$DB_PASS'"
+    psql_super -c "CREATE ROLE $DB_USER LOGIN CREATEDB PASSWORD '$DB_PASS'"
+  elif [ "$(psql_super -c "SELECT rolcreatedb FROM pg_roles WHERE rolname='$DB_USER'")" != t ]; then
+    psql_super -c "ALTER ROLE $DB_USER CREATEDB"
   fi
   if [ "$(psql_super -c "SELECT 1 FROM pg_database WHERE datname='$name'")" != 1 ]; then
     log "creating database $name"

@@ -1,6 +1,7 @@
 // Adds up the vitest and Playwright JSON reports and prints "N passed, N failed".
 // Exit 1 when anything failed or when a report is missing (a suite that did not run counts as failed).
-import { existsSync, readFileSync } from 'node:fs'
+import { existsSync, readFileSync, writeFileSync } from 'node:fs'
+import { dirname, join } from 'node:path'
 
 const [vitestFile, playwrightFile] = process.argv.slice(2)
 let passed = 0
@@ -28,5 +29,7 @@ if (existsSync(playwrightFile)) {
 }
 else failed += 1
 
-console.log(`${passed} passed, ${failed} failed${skipped ? `, ${skipped} skipped` : ''}`)
+const line = `${passed} passed, ${failed} failed${skipped ? `, ${skipped} skipped` : ''}`
+writeFileSync(join(dirname(vitestFile), 'totals.txt'), `${line}\n`)
+console.log(line)
 process.exit(failed > 0 ? 1 : 0)

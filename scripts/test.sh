@@ -12,8 +12,9 @@ MAIL_HTTP_TEST_PORT=2581
 TEST_DB=counterpart_test
 RESULTS="$ROOT/test-results"
 mkdir -p "$RESULTS" "$DATA_DIR/logs"
+rm -f "$RESULTS/totals.txt" "$RESULTS/vitest.json" "$RESULTS/playwright.json"
 
-fail_setup() { log "set-up failed: $*"; echo "0 passed, 1 failed"; exit 1; }
+fail_setup() { log "set-up failed: $*"; echo "0 passed, 1 failed" | tee "$RESULTS/totals.txt"; exit 1; }
 
 ensure_node_modules || fail_setup "npm ci"
 ensure_chromium || fail_setup "chromium"
