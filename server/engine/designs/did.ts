@@ -1,0 +1,111 @@
+/**
+ * Difference-in-differences.
+ *
+ * form "twfe" (default): two-way fixed effects,
+ *   y_it = a_i + g_t + beta * D_it + x_it' c + e_it,
+ * with D_it = 1 for a treated unit from its start on (or the treatmentColumn, binary or
+ * continuous), unit effects a_i and period effects g_t (fixedEffects "unit": a_i only),
+ * fitted by the within transformation, clustered by unit (CR1, smallSample as specified).
+ *
+ * form "2x2": the pooled regression y = b0 + b1 treated + b2 post + beta treated*post (+ x'c),
+ * whose interaction equals the difference of the four cell means
+ * (treated post - treated pre) - (control post - control pre) (Card and Krueger 1994 is
+ * the classic example), clustered by unit. Needs one start shared by all treated units.
+ *
+ * Both report the pre-trend slope difference (preTrend.ts) when there are enough
+ * pre-periods. With starts that differ across units the TWFE estimate is a weighted mix of
+ * comparisons that can mislead when effects change over time (Goodman-Bacon 2021); a
+ * warning says so.
+ *
+ * Throws EngineError: 'invalid_spec' (no treated units, no start, 2x2 with several starts),
+ * 'no_pre_periods', 'no_post_periods', and what the regression throws.
+ */
+import type { EstimateResult, GroupMeans } from '../../../shared/engine/result'
+import type { Spec } from '../../../shared/engine/spec'
+import { EngineError } from '../errors'
+import type { Panel } from '../panel'
+import { preTrendSlopeDiff } from '../preTrend'
+import { type Term, coefficientOf, fitLinearModel } from '../regression'
+import { countTreatedUnits, makeResult } from '../report'
+import { type Roles, type Sample, clusterWarnings, covarianceFor, requirePrePost, resolveRoles, selectSample, treatmentIndicator } from '../sample'
+
+function cellMeans(sample: Sample, treated: Float64Array, post: Float64Array): GroupMeans {
+  const sum = [0, 0, 0, 0]
+  const cnt = [0, 0, 0, 0]
+  for (let i = 0; i < sample.n; i++) {
+    const k = (treated[i] ? 0 : 2) + (post[i] ? 1 : 0)
+    sum[k] += sample.y[i]
+    cnt[k]++
+  }
+  const m = sum.map((s, k) => (cnt[k] ? s / cnt[k] : NaN))
+  return {
+    treatedPre: m[0],
+    treatedPost: m[1],
+    controlPre: m[2],
+    controlPost: m[3],
+    did: m[1] - m[0] - (m[3] - m[2]),
+    nCells: { treatedPre: cnt[0], treatedPost: cnt[1], controlPre: cnt[2], controlPost: cnt[3] },
+  }
+}
+
+function covariateTerms(spec: Spec, sample: Sample): Term[] {
+  return spec.covariates.map((c) => ({ name: c, values: sample.column(c) }))
+}
+
+function estimate2x2(panel: Panel, spec: Spec, roles: Roles, sample: Sample, warnings: string[]): EstimateResult {
+  if (roles.commonStart === null) throw new EngineError('invalid_spec', 'did form "2x2" needs one start shared by all treated units; use form "twfe" or the event study for differing starts')
+  const treated = new Float64Array(sample.n)
+  const post = new Float64Array(sample.n)
+  const postFrom = roles.window ? roles.window.post[0] : roles.commonStart
+  for (let i = 0; i < sample.n; i++) {
+    treated[i] = roles.isTreated[sample.unitPanel[sample.unit[i]]]
+    post[i] = sample.ordinal[i] >= postFrom ? 1 : 0
+  }
+  const groupMeans = cellMeans(sample, treated, post)
+  for (const [k, v] of Object.entries(groupMeans.nCells)) {
+    if (v === 0) throw new EngineError(k.endsWith('Pre') ? 'no_pre_periods' : 'no_post_periods', `did 2x2: the ${k.replace(/(Pre|Post)$/, ' $1').toLowerCase()} cell has no rows`)
+  }
+  const product = treatmentIndicator(sample, roles)
+  const covariance = covarianceFor(spec, sample)
+  const fit = fitLinearModel({
+    y: sample.y,
+    terms: [{ name: 'treated', values: treated }, { name: 'post', values: post }, { name: 'treatment', values: product }, ...covariateTerms(spec, sample)],
+    intercept: true,
+    covariance,
+  })
+  warnings.push(...clusterWarnings(spec, sample.nUnits, roles.treated.length))
+  const slopeDiff = preTrendSlopeDiff(panel, spec, roles, spec.covariates, warnings)
+  const effect = { term: 'treatment', ...coefficientOf(fit, 'treatment') }
+  return makeResult(spec, sample, fit, covariance, effect, { groupMeans, preTrend: { wald: null, slopeDiff } }, warnings)
+}
+
+export function estimateDid(panel: Panel, spec: Spec): EstimateResult {
+  const warnings: string[] = []
+  const byColumn = spec.treatmentColumn !== undefined
+  const twoByTwo = spec.did.form === '2x2'
+  if (byColumn && twoByTwo) throw new EngineError('invalid_spec', 'did form "2x2" is defined by treated units and a start; it does not take a treatmentColumn')
+  const roles = resolveRoles(panel, spec, { requireTreated: !byColumn, requireStart: !byColumn })
+  const columns = [...(byColumn ? [spec.treatmentColumn!] : []), ...spec.covariates]
+  const sample = selectSample(panel, spec, roles, { columns }, warnings)
+  if (!byColumn) requirePrePost(sample, roles, spec)
+  if (twoByTwo) return estimate2x2(panel, spec, roles, sample, warnings)
+
+  const name = byColumn ? spec.treatmentColumn! : 'treatment'
+  const d = byColumn ? sample.column(spec.treatmentColumn!) : treatmentIndicator(sample, roles)
+  const covariance = covarianceFor(spec, sample)
+  const fit = fitLinearModel({
+    y: sample.y,
+    terms: [{ name, values: d }, ...covariateTerms(spec, sample)],
+    intercept: false,
+    absorb: { unit: sample.unit, nUnits: sample.nUnits, ...(spec.fixedEffects === 'two-way' ? { period: sample.period, nPeriods: sample.nPeriods } : {}) },
+    covariance,
+  })
+  const binary = d.every((v) => v === 0 || v === 1)
+  warnings.push(...clusterWarnings(spec, sample.nUnits, binary ? countTreatedUnits(sample, d) : null))
+  if (!byColumn && roles.commonStart === null) {
+    warnings.push('treated units start at different periods: the two-way fixed-effects estimate mixes comparisons and can mislead when effects change over time (Goodman-Bacon 2021); compare with the event study')
+  }
+  const slopeDiff = byColumn ? null : preTrendSlopeDiff(panel, spec, roles, spec.covariates, warnings)
+  const effect = { term: name, ...coefficientOf(fit, name) }
+  return makeResult(spec, sample, fit, covariance, effect, { preTrend: slopeDiff ? { wald: null, slopeDiff } : null }, warnings)
+}
