@@ -22,6 +22,7 @@
 import { Matrix } from 'ml-matrix'
 import type { SmallSample } from '../../shared/engine/spec'
 import { EngineError } from './errors'
+import { symmetrize } from './ols'
 
 /** The meat sum_g s_g s_g' with s_g = sum over cluster g of x_i u_i. */
 export function clusterMeat(columns: Float64Array[], residuals: Float64Array, cluster: Int32Array, nClusters: number): Matrix {
@@ -46,16 +47,7 @@ export function clusterMeat(columns: Float64Array[], residuals: Float64Array, cl
 
 /** bread * meat * bread, symmetrised against rounding. */
 export function sandwich(bread: Matrix, meat: Matrix): Matrix {
-  const v = bread.mmul(meat).mmul(bread)
-  const k = v.rows
-  for (let a = 0; a < k; a++) {
-    for (let b = 0; b < a; b++) {
-      const m = (v.get(a, b) + v.get(b, a)) / 2
-      v.set(a, b, m)
-      v.set(b, a, m)
-    }
-  }
-  return v
+  return symmetrize(bread.mmul(meat).mmul(bread))
 }
 
 export interface SmallSampleCounts {

@@ -34,6 +34,18 @@ export function dot(a: Float64Array, b: Float64Array): number {
   return s
 }
 
+/** Replaces m by (m + m')/2 in place, removing rounding asymmetry; returns m. */
+export function symmetrize(m: Matrix): Matrix {
+  for (let a = 0; a < m.rows; a++) {
+    for (let b = 0; b < a; b++) {
+      const v = (m.get(a, b) + m.get(b, a)) / 2
+      m.set(a, b, v)
+      m.set(b, a, v)
+    }
+  }
+  return m
+}
+
 function collinearityMessage(names: string[], scaled: Matrix, j: number): string {
   if (j === 0) return `singular design: term "${names[0]}" is zero in every row used`
   const lead = scaled.subMatrix(0, j - 1, 0, j - 1)
@@ -82,6 +94,7 @@ export function ols(y: Float64Array, columns: Float64Array[], names: string[]): 
   for (let j = 0; j < k; j++) beta[j] = scaledBeta.get(j, 0) / norms[j]
   const bread = new Matrix(k, k)
   for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) bread.set(a, b, scaledInverse.get(a, b) / (norms[a] * norms[b]))
+  symmetrize(bread)
 
   const residuals = Float64Array.from(y)
   for (let j = 0; j < k; j++) {
