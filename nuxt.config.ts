@@ -23,7 +23,7 @@ export default defineNuxtConfig({
     isEnabled: true,
     baseURL: '/api/auth',
     originEnvKey: 'AUTH_ORIGIN',
-    provider: { type: 'authjs', defaultProvider: 'credentials', addDefaultCallbackUrl: true },
+    provider: { type: 'authjs', addDefaultCallbackUrl: true },
     sessionRefresh: { enablePeriodically: false, enableOnWindowFocus: false },
     globalAppMiddleware: { isEnabled: true },
   },
