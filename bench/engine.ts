@@ -61,6 +61,8 @@ export async function run(): Promise<BenchFigure[]> {
   const twfeTreated = twfeRows.filter((row, i) => i % 240 === 0 && Number(row.unit.slice(1)) < 300).map((row) => row.unit)
   const twfeSpec = { design: 'did', treated: twfeTreated, start: 121 }
   figures.push({ name: 'two-way FE + CR1 clustered: 3,000 units x 240 periods (720,000 rows)', medianMs: await medianMs(() => estimate({ rows: twfeRows }, twfeSpec), 5), target: 1000 })
+  const unbalanced = twfeRows.filter((_, i) => (i * 2654435761) % 100 >= 5)
+  figures.push({ name: '  (the same with 5% of cells missing: alternating projections)', medianMs: await medianMs(() => estimate({ rows: unbalanced }, twfeSpec), 3), target: null })
 
   // event study: 100 of 500 units treated, starts spread over periods 25-36
   const esRows = panelRows(500, 60, (u) => (u < 100 ? 25 + (u % 12) : null), 3)

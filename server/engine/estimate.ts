@@ -8,7 +8,7 @@
  * throws.
  */
 import type { EstimateResult } from '../../shared/engine/result'
-import { type Spec, type SpecInput, describeSpecIssues, specSchema } from '../../shared/engine/spec'
+import { type Design, type Spec, type SpecInput, describeSpecIssues, specSchema } from '../../shared/engine/spec'
 import { estimateDid } from './designs/did'
 import { estimateEventStudy } from './designs/eventStudy'
 import { estimateIts } from './designs/its'
@@ -39,21 +39,24 @@ export function panelFor(input: PanelInput, spec: Spec): Panel {
   return buildPanel(input, { unit: spec.unit, period: spec.period, numeric: specColumns(spec) })
 }
 
+type DesignModule = (panel: Panel, spec: Spec) => EstimateResult
+
+/** One entry per design; a design still to come is a string saying what it will be. */
+const designModules: Record<Design, DesignModule | string> = {
+  did: estimateDid,
+  event_study: estimateEventStudy,
+  its: estimateIts,
+  pre_post: estimatePrePost,
+  staggered: 'staggered adoption (group-time effects)',
+  synthetic: 'synthetic control weights',
+}
+
 export function estimate(input: PanelInput, specInput: SpecInput | Spec | unknown): EstimateResult {
   const spec = parseSpec(specInput)
-  if (spec.design === 'staggered' || spec.design === 'synthetic') {
-    const what = spec.design === 'staggered' ? 'staggered adoption (group-time effects)' : 'synthetic control weights'
-    throw new EngineError('not_available', `design "${spec.design}" (${what}) is not available yet; use "did", "event_study", "its" or "pre_post"`)
+  const run = designModules[spec.design]
+  if (typeof run === 'string') {
+    const ready = Object.keys(designModules).filter((d) => typeof designModules[d as Design] !== 'string')
+    throw new EngineError('not_available', `design "${spec.design}" (${run}) is not available yet; use ${ready.map((d) => `"${d}"`).join(', ')}`)
   }
-  const panel = panelFor(input, spec)
-  switch (spec.design) {
-    case 'did':
-      return estimateDid(panel, spec)
-    case 'event_study':
-      return estimateEventStudy(panel, spec)
-    case 'its':
-      return estimateIts(panel, spec)
-    case 'pre_post':
-      return estimatePrePost(panel, spec)
-  }
+  return run(panelFor(input, spec), spec)
 }
