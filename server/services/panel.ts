@@ -1,0 +1,86 @@
+/**
+ * Panel reads for the engine, the studies and the panel browser: one measure's values by
+ * jurisdiction and period, taking for every cell the newest release that has it (highest
+ * release id among imported releases). `release` limits the read to given releases (the
+ * ones a study run used), `asOf` to releases imported by then: both reproduce older reads.
+ * Served by the index observations_panel_read (measure, jurisdiction, period, release).
+ */
+import type pg from 'pg'
+import { parsePeriod } from '#shared/utils/periods'
+import type { PanelQuery, PanelResponse, PanelRow } from '#shared/schemas/uploads'
+
+export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): Promise<PanelResponse> {
+  const { rows: [measure] } = await pool.query<{ id: number, key: string, label: string, unit: string, frequency: string }>(
+    'SELECT id, key, label, unit, frequency FROM measures WHERE key = $1', [q.measure])
+  if (!measure) throw createError({ statusCode: 404, message: `No measure with key "${q.measure}".` })
+  for (const [name, value] of [['from', q.from], ['to', q.to]] as const) {
+    if (value && parsePeriod(value).frequency !== measure.frequency) {
+      badRequest(`${name} "${value}" is a ${parsePeriod(value).frequency}, but ${measure.key} is recorded by ${measure.frequency}.`, [{ path: name, message: `Give a ${measure.frequency}.` }])
+    }
+  }
+  if (q.from && q.to && q.from > q.to) badRequest(`from (${q.from}) comes after to (${q.to}).`, [{ path: 'from', message: 'from is after to.' }])
+
+  const params: unknown[] = [measure.id]
+  const where: string[] = ['o.measure_id = $1']
+  const releaseWhere: string[] = [`r.status = 'done'`]
+  if (q.units.length) {
+    const { rows } = await pool.query<{ id: number, code: string }>('SELECT id, code FROM jurisdictions WHERE code = ANY($1)', [q.units])
+    const known = new Set(rows.map(r => r.code))
+    const unknown = q.units.filter(c => !known.has(c))
+    if (unknown.length) badRequest(`Unknown jurisdiction code${unknown.length > 1 ? 's' : ''}: ${unknown.slice(0, 20).join(', ')}.`, unknown.map(c => ({ path: 'units', message: `Unknown code "${c}".` })))
+    params.push(rows.map(r => r.id))
+    where.push(`o.jurisdiction_id = ANY($${params.length}::int[])`)
+  }
+  // Canonical periods of one frequency sort as text in time order (four-digit years).
+  if (q.from) {
+    params.push(q.from)
+    where.push(`o.period >= $${params.length}`)
+  }
+  if (q.to) {
+    params.push(q.to)
+    where.push(`o.period <= $${params.length}`)
+  }
+  if (q.release.length) {
+    params.push(q.release)
+    releaseWhere.push(`r.id = ANY($${params.length}::int[])`)
+  }
+  if (q.asOf) {
+    params.push(q.asOf)
+    // At the millisecond: an importedAt copied from a JSON reply includes that release.
+    releaseWhere.push(`date_trunc('milliseconds', r.imported_at) <= $${params.length}::timestamptz`)
+  }
+  const { rows } = await pool.query<{ code: string, period: string, value: number, release_id: number }>({
+    text: `SELECT j.code, c.period, c.value, c.release_id FROM (
+             SELECT DISTINCT ON (o.jurisdiction_id, o.period) o.jurisdiction_id, o.period, o.value, o.release_id
+             FROM observations o JOIN source_releases r ON r.id = o.release_id AND ${releaseWhere.join(' AND ')}
+             WHERE ${where.join(' AND ')}
+             ORDER BY o.jurisdiction_id, o.period, o.release_id DESC
+           ) c JOIN jurisdictions j ON j.id = c.jurisdiction_id
+           ORDER BY j.code, c.period`,
+    values: params,
+  })
+  const used = [...new Set(rows.map(r => r.release_id))]
+  const { rows: releases } = used.length
+    ? await pool.query<{ id: number, source: string, label: string | null, imported_at: Date | null }>(
+      `SELECT r.id, s.name AS source, r.label, r.imported_at FROM source_releases r JOIN sources s ON s.id = r.source_id
+       WHERE r.id = ANY($1::int[]) ORDER BY r.id`, [used])
+    : { rows: [] }
+  const out: PanelRow[] = new Array(rows.length)
+  for (let i = 0; i < rows.length; i++) out[i] = { jurisdiction: rows[i]!.code, period: rows[i]!.period, value: rows[i]!.value }
+  return {
+    measure: measure.key,
+    label: measure.label,
+    unit: measure.unit,
+    frequency: measure.frequency,
+    rows: out,
+    releases: releases.map(r => ({ id: r.id, source: r.source, label: r.label, importedAt: r.imported_at?.toISOString() ?? null })),
+  }
+}
+
+const csvField = (s: string) => (/[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s)
+
+export function panelCsv(panel: PanelResponse): string {
+  const lines = ['jurisdiction,period,value']
+  for (const r of panel.rows) lines.push(`${csvField(r.jurisdiction)},${r.period},${r.value}`)
+  return `${lines.join('\n')}\n`
+}

@@ -1,0 +1,45 @@
+/** Helpers for upload tests: send a release, wait for its job, and fingerprint the data tables. */
+import { expect } from 'vitest'
+import type { Client, Reply } from './http'
+import { sql } from './db'
+
+/** A short prefix unique to this test run, for codes and keys that must not collide. */
+export function runTag(): string {
+  return `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 5)}`.toUpperCase()
+}
+
+export function uploadForm(file: Buffer | string, fileName: string, mapping: unknown, label?: string): FormData {
+  const form = new FormData()
+  form.append('file', new Blob([typeof file === 'string' ? Buffer.from(file) : new Uint8Array(file)]), fileName)
+  form.append('mapping', typeof mapping === 'string' ? mapping : JSON.stringify(mapping))
+  if (label) form.append('label', label)
+  return form
+}
+
+export function uploadRelease(client: Client, sourceId: number, file: Buffer | string, fileName: string, mapping: unknown, label?: string): Promise<Reply> {
+  return client.request('POST', `/api/sources/${sourceId}/releases`, uploadForm(file, fileName, mapping, label))
+}
+
+export async function waitForJob(client: Client, jobId: string, timeoutMs = 30_000) {
+  const start = Date.now()
+  for (;;) {
+    const { status, body } = await client.get(`/api/jobs/${jobId}`)
+    expect(status).toBe(200)
+    if (body.state === 'done' || body.state === 'failed') return body
+    if (Date.now() - start > timeoutMs) throw new Error(`job ${jobId} still ${body.state} after ${timeoutMs} ms`)
+    await new Promise(r => setTimeout(r, 150))
+  }
+}
+
+/** Row counts and a content hash of every table an upload may touch. */
+export async function dataFingerprint() {
+  const [row] = await sql(`SELECT
+    (SELECT count(*) FROM source_releases)::int AS releases,
+    (SELECT count(*) FROM observations)::int AS observations,
+    (SELECT coalesce(sum(hashtext(release_id || ':' || measure_id || ':' || jurisdiction_id || ':' || period || ':' || value)::bigint), 0)::text FROM observations) AS observation_hash,
+    (SELECT count(*) FROM measures)::int AS measures,
+    (SELECT count(*) FROM jurisdictions)::int AS jurisdictions,
+    (SELECT count(*) FROM jobs)::int AS jobs,
+    (SELECT count(*) FROM audit_log)::int AS audit`)
+  return row
+}
