@@ -196,6 +196,8 @@ export const studyRuns = pgTable('study_runs', {
   spec: jsonb('spec').$type<Record<string, unknown>>().notNull(),
   fingerprint: text('fingerprint').notNull(),
   releaseIds: jsonb('release_ids').$type<number[]>().notNull().default([]),
+  /** What the rows were read from (measures, units, period range, transform) and the pool as decided then. */
+  data: jsonb('data').$type<Record<string, unknown>>().notNull().default({}),
   result: jsonb('result').$type<Record<string, unknown>>().notNull(),
   createdBy: integer('created_by').references(() => users.id),
   createdAt: createdAt(),

@@ -1,0 +1,1 @@
+ALTER TABLE "study_runs" ADD COLUMN "data" jsonb DEFAULT '{}'::jsonb NOT NULL;
