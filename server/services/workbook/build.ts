@@ -1,0 +1,351 @@
+/**
+ * The estimates workbook of one run (exceljs): what a budget office receives.
+ *   const buffer = await buildWorkbook(input)
+ * Pure: takes plain objects (the route gathers them), touches no database.
+ *
+ * Sheets: Summary, Coefficients, Event study, Pre-trend tests, Donor pool, Panel rows,
+ * Validity, Provenance. Numbers are number cells with number formats; every table has a
+ * frozen header row and set column widths.
+ *
+ * Formula injection: no cell is ever written as a formula. exceljs stores a JavaScript string
+ * as a string cell, and on top of that every text cell that starts with = + - @ (or a tab or
+ * carriage return) is written with a leading apostrophe ("'=SUM(A1)"), so that even a program
+ * that re-reads the text as input (a CSV save, a paste) does not evaluate it.
+ */
+import ExcelJS from 'exceljs'
+import type { EstimateResult } from '../../../shared/engine/result'
+import { allCautions } from '../../../shared/delivery/cautions'
+import { ASSESSMENT_LABELS, THREATS, type Assessment } from '../../../shared/schemas/validity'
+
+export interface WorkbookPoolRow {
+  jurisdiction: string
+  included: boolean | null
+  reason: string | null
+  rank: number | null
+  rmspe: number | null
+  rmspeDemeaned: number | null
+  correlation: number | null
+  slopeDiff: number | null
+  covariateDistance: number | null
+  missingShare: number | null
+  exclusions: { reason: string, detail: string }[]
+}
+
+export interface WorkbookPanelRow {
+  unit: string
+  period: string
+  values: Record<string, number | null | undefined>
+}
+
+export interface WorkbookRelease {
+  id: number
+  source: string
+  publisher: string | null
+  url: string | null
+  licence: string | null
+  label: string | null
+  fileName: string | null
+  checksum: string | null
+  rowCount: number | null
+  importedAt: Date | string | null
+}
+
+export interface WorkbookValidityNote {
+  threat: string
+  assessment: Assessment
+  note: string
+  evidence: { kind: string, ref: string, label?: string }[]
+}
+
+export interface WorkbookInput {
+  study: {
+    id: number
+    title: string
+    question: string | null
+    outcome: string
+    outcomeLabel?: string | null
+    transform: string
+    treated: string[]
+    start: string | Record<string, string>
+    window: { pre: [string, string], post: [string, string] } | null
+    covariates: string[]
+    status: string
+    version: number
+  }
+  run: {
+    id: number
+    design: string
+    spec: Record<string, unknown>
+    fingerprint: string
+    result: EstimateResult
+    createdAt: Date | string
+    createdBy: string | null
+  }
+  pool: WorkbookPoolRow[]
+  rows: WorkbookPanelRow[]
+  validity: WorkbookValidityNote[]
+  releases: WorkbookRelease[]
+  software: { name: string, version: string }
+  generated: { at: Date, by: string }
+}
+
+export const SHEETS = ['Summary', 'Coefficients', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Validity', 'Provenance'] as const
+
+export const FORMATS = {
+  estimate: '0.0000',
+  p: '0.0000',
+  count: '#,##0',
+  value: '#,##0.######',
+  share: '0.0%',
+  stat: '0.000',
+} as const
+
+const RISKY = /^[=+\-@\t\r]/
+
+/** Text for a cell: never read as a formula (see the file comment). */
+export function safeText(value: string): string {
+  return RISKY.test(value) ? `'${value}` : value
+}
+
+type CellValue = string | number | boolean | Date | null | undefined
+
+/** A cell value: finite numbers stay numbers, non-finite ones become empty, text is guarded. */
+function cellValue(v: CellValue): ExcelJS.CellValue {
+  if (v === null || v === undefined) return null
+  if (typeof v === 'number') return Number.isFinite(v) ? v : null
+  if (typeof v === 'boolean' || v instanceof Date) return v
+  return safeText(v)
+}
+
+interface Column { header: string, width: number, format?: string }
+
+function table(wb: ExcelJS.Workbook, name: string, columns: Column[], rows: CellValue[][]): ExcelJS.Worksheet {
+  const ws = wb.addWorksheet(name, { views: [{ state: 'frozen', ySplit: 1 }] })
+  ws.columns = columns.map(c => ({ width: c.width, style: c.format ? { numFmt: c.format } : {} }))
+  const head = ws.addRow(columns.map(c => c.header))
+  head.font = { bold: true }
+  head.eachCell((cell) => {
+    cell.numFmt = 'General'
+    cell.border = { bottom: { style: 'thin' } }
+  })
+  for (const r of rows) ws.addRow(r.map(cellValue))
+  return ws
+}
+
+const fmtStart = (start: string | Record<string, string>) =>
+  typeof start === 'string' ? start : Object.entries(start).map(([u, p]) => `${u}: ${p}`).join('; ')
+
+const iso = (d: Date | string | null) => (d == null ? null : new Date(d).toISOString())
+
+export const DESIGN_LABELS: Record<string, string> = {
+  pre_post: 'Pre/post comparison (no comparison group)',
+  its: 'Interrupted time series (segmented regression)',
+  did: 'Difference-in-differences',
+  event_study: 'Event study',
+  staggered: 'Staggered adoption',
+  synthetic: 'Weighted comparison unit',
+}
+
+const VCOV_LABELS: Record<string, string> = {
+  cluster: 'Cluster-robust by unit',
+  hac: 'Newey-West (autocorrelation-robust)',
+  hc1: 'Heteroskedasticity-robust (HC1)',
+  iid: 'Classical (iid)',
+}
+
+function summary(wb: ExcelJS.Workbook, input: WorkbookInput) {
+  const { study, run } = input
+  const r = run.result
+  const ws = wb.addWorksheet('Summary', { views: [{ state: 'frozen', ySplit: 1 }] })
+  ws.columns = [{ width: 34 }, { width: 90 }]
+  const title = ws.addRow([safeText(study.title), null])
+  title.font = { bold: true, size: 14 }
+  const add = (label: string, value: CellValue, format?: string) => {
+    const row = ws.addRow([label, cellValue(value)])
+    row.getCell(1).font = { bold: true }
+    if (format) row.getCell(2).numFmt = format
+    row.getCell(2).alignment = { wrapText: true, vertical: 'top', horizontal: 'left' }
+    return row
+  }
+  add('Question', study.question ?? '')
+  add('Study', `#${study.id}, version ${study.version} (${study.status.replace('_', ' ')})`)
+  add('Run', `#${run.id}`)
+  add('Outcome', study.outcomeLabel ? `${study.outcomeLabel} (${study.outcome})` : study.outcome)
+  add('Transform', study.transform)
+  add('Treated units', study.treated.join(', '))
+  add('Policy start', fmtStart(study.start))
+  if (study.window) {
+    add('Pre-period', `${study.window.pre[0]} to ${study.window.pre[1]}`)
+    add('Post-period', `${study.window.post[0]} to ${study.window.post[1]}`)
+  }
+  add('Design', DESIGN_LABELS[run.design] ?? run.design)
+  add('Standard errors', VCOV_LABELS[r.vcov] ?? r.vcov)
+  ws.addRow([])
+  add('Effect term', r.effect.term)
+  add('Effect estimate', r.effect.estimate, FORMATS.estimate)
+  add('Standard error', r.effect.se, FORMATS.estimate)
+  add('95% interval, low', r.effect.ciLow, FORMATS.estimate)
+  add('95% interval, high', r.effect.ciHigh, FORMATS.estimate)
+  add('t', r.effect.t, FORMATS.stat)
+  add('Degrees of freedom', r.effect.df, FORMATS.count)
+  add('p-value', r.effect.p, FORMATS.p)
+  add('Observations', r.nObs, FORMATS.count)
+  add('Units', r.nUnits, FORMATS.count)
+  add('Periods', r.nPeriods, FORMATS.count)
+  if (r.nClusters != null) add('Clusters', r.nClusters, FORMATS.count)
+  if (r.smallSample) add('Small-sample correction', r.smallSample)
+  if (r.durbinWatson != null) add('Durbin-Watson', r.durbinWatson, FORMATS.stat)
+  ws.addRow([])
+  const head = ws.addRow(['Cautions', null])
+  head.font = { bold: true }
+  for (const c of allCautions(r, study.treated.length)) {
+    const row = ws.addRow([null, safeText(c)])
+    row.getCell(2).alignment = { wrapText: true, vertical: 'top' }
+  }
+  return ws
+}
+
+function coefficients(wb: ExcelJS.Workbook, r: EstimateResult) {
+  table(wb, 'Coefficients', [
+    { header: 'Term', width: 24 },
+    { header: 'Estimate', width: 14, format: FORMATS.estimate },
+    { header: 'Standard error', width: 16, format: FORMATS.estimate },
+    { header: 'Classical SE', width: 14, format: FORMATS.estimate },
+    { header: 't', width: 10, format: FORMATS.stat },
+    { header: 'df', width: 8, format: FORMATS.count },
+    { header: 'p-value', width: 10, format: FORMATS.p },
+    { header: '95% low', width: 14, format: FORMATS.estimate },
+    { header: '95% high', width: 14, format: FORMATS.estimate },
+  ], Object.entries(r.coefficients).map(([name, c]) => [name, c.estimate, c.se, c.seIid, c.t, c.df, c.p, c.ciLow, c.ciHigh]))
+}
+
+function eventStudy(wb: ExcelJS.Workbook, r: EstimateResult) {
+  const ws = table(wb, 'Event study', [
+    { header: 'Periods from start', width: 18, format: FORMATS.count },
+    { header: 'Estimate', width: 14, format: FORMATS.estimate },
+    { header: 'Standard error', width: 16, format: FORMATS.estimate },
+    { header: '95% low', width: 14, format: FORMATS.estimate },
+    { header: '95% high', width: 14, format: FORMATS.estimate },
+    { header: 'Reference period', width: 16 },
+    { header: 'Binned end point', width: 18 },
+  ], (r.eventStudy ?? []).map(e => [e.relTime, e.estimate, e.se, e.ciLow, e.ciHigh, e.reference ? 'yes (0 by construction)' : '', e.bin === '<=' ? 'this and earlier' : e.bin === '>=' ? 'this and later' : '']))
+  if (!r.eventStudy?.length) ws.addRow(['This run is not an event study; no relative-time coefficients.'])
+}
+
+function preTrend(wb: ExcelJS.Workbook, r: EstimateResult) {
+  const rows: CellValue[][] = []
+  const w = r.preTrend?.wald
+  if (w) {
+    rows.push([`Leads jointly zero (F): ${w.terms.join(', ')}`, w.F, w.df1, w.df2, w.p])
+    rows.push(['Leads jointly zero (chi-square)', w.chi2, w.df1, null, w.pChi2])
+  }
+  const s = r.preTrend?.slopeDiff
+  if (s) rows.push([`Pre-period slope difference, treated minus comparison (estimate ${s.estimate.toPrecision(6)}, SE ${s.se.toPrecision(6)}, ${s.nObs} rows)`, s.estimate / s.se, s.df, null, s.p])
+  const ws = table(wb, 'Pre-trend tests', [
+    { header: 'Test', width: 70 },
+    { header: 'Statistic', width: 12, format: FORMATS.stat },
+    { header: 'df 1', width: 8, format: FORMATS.count },
+    { header: 'df 2', width: 8, format: FORMATS.count },
+    { header: 'p-value', width: 10, format: FORMATS.p },
+  ], rows)
+  if (!rows.length) ws.addRow(['No pre-trend test applies to this design.'])
+}
+
+function donorPool(wb: ExcelJS.Workbook, pool: WorkbookPoolRow[]) {
+  table(wb, 'Donor pool', [
+    { header: 'Jurisdiction', width: 14 },
+    { header: 'Decision', width: 12 },
+    { header: 'Reason', width: 40 },
+    { header: 'Rank', width: 8, format: FORMATS.count },
+    { header: 'RMSPE', width: 12, format: FORMATS.estimate },
+    { header: 'RMSPE (demeaned)', width: 16, format: FORMATS.estimate },
+    { header: 'Correlation', width: 12, format: FORMATS.stat },
+    { header: 'Slope difference', width: 16, format: FORMATS.estimate },
+    { header: 'Covariate distance', width: 18, format: FORMATS.estimate },
+    { header: 'Missing share', width: 14, format: FORMATS.share },
+    { header: 'Flags', width: 50 },
+  ], pool.map(p => [
+    p.jurisdiction,
+    p.included === null ? 'undecided' : p.included ? 'included' : 'excluded',
+    p.reason ?? '',
+    p.rank, p.rmspe, p.rmspeDemeaned, p.correlation, p.slopeDiff, p.covariateDistance, p.missingShare,
+    p.exclusions.map(e => `${e.reason}: ${e.detail}`).join('; '),
+  ]))
+}
+
+function panelRows(wb: ExcelJS.Workbook, input: WorkbookInput) {
+  const columns = [...new Set([input.study.outcome, ...input.rows.flatMap(r => Object.keys(r.values))])]
+  const treated = new Set(input.study.treated)
+  table(wb, 'Panel rows', [
+    { header: 'Jurisdiction', width: 14 },
+    { header: 'Period', width: 12 },
+    { header: 'Role', width: 12 },
+    ...columns.map(c => ({ header: c, width: Math.max(12, c.length + 2), format: FORMATS.value })),
+  ], input.rows.map(r => [r.unit, String(r.period), treated.has(r.unit) ? 'treated' : 'comparison', ...columns.map(c => r.values[c] ?? null)]))
+}
+
+function validity(wb: ExcelJS.Workbook, notes: WorkbookValidityNote[]) {
+  const byThreat = new Map(notes.map(n => [n.threat, n]))
+  const ws = table(wb, 'Validity', [
+    { header: 'Threat', width: 24 },
+    { header: 'Assessment', width: 18 },
+    { header: 'Note', width: 70 },
+    { header: 'Evidence', width: 50 },
+  ], THREATS.map((t) => {
+    const n = byThreat.get(t.key)
+    return [t.label, n ? ASSESSMENT_LABELS[n.assessment] : 'not recorded', n?.note ?? '', (n?.evidence ?? []).map(e => `${e.kind} ${e.ref}${e.label ? ` (${e.label})` : ''}`).join('; ')]
+  }))
+  ws.eachRow((row, i) => {
+    if (i > 1) row.alignment = { wrapText: true, vertical: 'top' }
+  })
+}
+
+function provenance(wb: ExcelJS.Workbook, input: WorkbookInput) {
+  const ws = table(wb, 'Provenance', [
+    { header: 'Release', width: 10, format: FORMATS.count },
+    { header: 'Source', width: 28 },
+    { header: 'Publisher', width: 24 },
+    { header: 'Address', width: 30 },
+    { header: 'Licence', width: 16 },
+    { header: 'Release label', width: 18 },
+    { header: 'File', width: 24 },
+    { header: 'SHA-256 checksum', width: 68 },
+    { header: 'Rows', width: 10, format: FORMATS.count },
+    { header: 'Imported', width: 24 },
+  ], input.releases.map(r => [r.id, r.source, r.publisher, r.url, r.licence, r.label, r.fileName, r.checksum, r.rowCount, iso(r.importedAt)]))
+  ws.addRow([])
+  const kv = (label: string, value: CellValue) => {
+    const row = ws.addRow([label, cellValue(value)])
+    row.getCell(1).font = { bold: true }
+  }
+  kv('Data fingerprint', input.run.fingerprint)
+  kv('Run', `#${input.run.id}`)
+  kv('Run by', input.run.createdBy ?? 'unknown')
+  kv('Run at', iso(input.run.createdAt))
+  kv('Software', `${input.software.name} ${input.software.version}`)
+  kv('Workbook made by', input.generated.by)
+  kv('Workbook made at', input.generated.at.toISOString())
+  kv('Spec (JSON)', JSON.stringify(input.run.spec))
+}
+
+export async function buildWorkbook(input: WorkbookInput): Promise<Buffer> {
+  const wb = new ExcelJS.Workbook()
+  wb.creator = `${input.software.name} ${input.software.version}`
+  wb.created = input.generated.at
+  wb.title = input.study.title
+  summary(wb, input)
+  coefficients(wb, input.run.result)
+  eventStudy(wb, input.run.result)
+  preTrend(wb, input.run.result)
+  donorPool(wb, input.pool)
+  panelRows(wb, input)
+  validity(wb, input.validity)
+  provenance(wb, input)
+  return Buffer.from(await wb.xlsx.writeBuffer())
+}
+
+/** A file name for the download: study title, version and run, in safe characters. */
+export function workbookFileName(title: string, version: number, runId: number): string {
+  const slug = title.toLowerCase().replace(/[^a-z0-9]+/g, '-').replace(/^-|-$/g, '').slice(0, 60) || 'study'
+  return `${slug}-v${version}-run${runId}-estimates.xlsx`
+}

@@ -1,0 +1,33 @@
+/**
+ * The cautions printed wherever results are read (workbook, printable report, screens):
+ * the standing ones from DESIGN.md "Quality bars", then those a given result calls for.
+ * Pure; shared by the server and the browser.
+ */
+import type { EstimateResult } from '../engine/result'
+
+export const STANDING_CAUTIONS = [
+  'These are observational estimates. They rest on assumptions (parallel trends, no spillover to the comparison units, no anticipation of the policy) that data cannot prove.',
+  'With few treated units or few clusters, standard errors, intervals and p-values can be unreliable.',
+  'Small counts may need suppression under the agency\'s disclosure rules before this leaves the office.',
+  'Follow the agency\'s evaluation standards and seek qualified review before a decision is made on these figures.',
+] as const
+
+/** Below this many clusters, cluster-robust errors are known to be fragile. */
+export const FEW_CLUSTERS = 30
+
+export function resultCautions(result: Pick<EstimateResult, 'design' | 'nClusters' | 'preTrend' | 'warnings'>, treatedUnits: number): string[] {
+  const out: string[] = []
+  if (result.design === 'pre_post') out.push('Pre/post comparison of the treated units alone: there is no comparison group, so anything else that changed at the same time is counted as the policy\'s effect. Treat it as weak evidence.')
+  if (treatedUnits > 0 && treatedUnits <= 2) out.push(`Only ${treatedUnits} treated unit${treatedUnits === 1 ? '' : 's'}: the effect rests on ${treatedUnits === 1 ? 'one jurisdiction' : 'two jurisdictions'}, and clustered errors understate the uncertainty.`)
+  if (result.nClusters != null && result.nClusters < FEW_CLUSTERS) out.push(`${result.nClusters} clusters: fewer than ${FEW_CLUSTERS}, so cluster-robust errors may be too small; a small-cluster method (wild cluster bootstrap) is advisable.`)
+  const wald = result.preTrend?.wald
+  if (wald && Number.isFinite(wald.p) && wald.p < 0.1) out.push(`The pre-period (lead) coefficients differ jointly from zero (p = ${wald.p.toFixed(3)}): the trends before the policy may not be parallel.`)
+  const slope = result.preTrend?.slopeDiff
+  if (slope && Number.isFinite(slope.p) && slope.p < 0.1) out.push(`Treated and comparison units trended differently before the policy (slope difference p = ${slope.p.toFixed(3)}).`)
+  for (const w of result.warnings) out.push(`Engine warning: ${w}`)
+  return out
+}
+
+export function allCautions(result: Pick<EstimateResult, 'design' | 'nClusters' | 'preTrend' | 'warnings'>, treatedUnits: number): string[] {
+  return [...resultCautions(result, treatedUnits), ...STANDING_CAUTIONS]
+}
