@@ -83,6 +83,8 @@ export interface WorkbookInput {
   }
   pool: WorkbookPoolRow[]
   rows: WorkbookPanelRow[]
+  /** The value columns of the panel sheet in order, with their headings (default: every key of the rows' values). */
+  panelColumns?: { key: string, header: string }[]
   validity: WorkbookValidityNote[]
   releases: WorkbookRelease[]
   software: { name: string, version: string }
@@ -274,14 +276,14 @@ function donorPool(wb: ExcelJS.Workbook, pool: WorkbookPoolRow[]) {
 }
 
 function panelRows(wb: ExcelJS.Workbook, input: WorkbookInput) {
-  const columns = [...new Set([input.study.outcome, ...input.rows.flatMap(r => Object.keys(r.values))])]
+  const columns = input.panelColumns ?? [...new Set(input.rows.flatMap(r => Object.keys(r.values)))].map(key => ({ key, header: key }))
   const treated = new Set(input.study.treated)
   table(wb, 'Panel rows', [
     { header: 'Jurisdiction', width: 14 },
     { header: 'Period', width: 12 },
     { header: 'Role', width: 12 },
-    ...columns.map(c => ({ header: c, width: Math.max(12, c.length + 2), format: FORMATS.value })),
-  ], input.rows.map(r => [r.unit, String(r.period), treated.has(r.unit) ? 'treated' : 'comparison', ...columns.map(c => r.values[c] ?? null)]))
+    ...columns.map(c => ({ header: c.header, width: Math.max(12, c.header.length + 2), format: FORMATS.value })),
+  ], input.rows.map(r => [r.unit, String(r.period), treated.has(r.unit) ? 'treated' : 'comparison', ...columns.map(c => r.values[c.key] ?? null)]))
 }
 
 function validity(wb: ExcelJS.Workbook, notes: WorkbookValidityNote[]) {
