@@ -1,11 +1,11 @@
 /** Outgoing e-mail: nodemailer to the configured SMTP server (the local mail catcher in development). */
 import { eq } from 'drizzle-orm'
-import nodemailer from 'nodemailer'
+import nodemailer, { type Transporter } from 'nodemailer'
 import { mailOutbox } from '~~/db/schema'
 
-let transport: nodemailer.Transporter | undefined
+let transport: Transporter | undefined
 
-function useTransport(): nodemailer.Transporter {
+function useTransport(): Transporter {
   if (!transport) {
     const config = useRuntimeConfig()
     transport = nodemailer.createTransport({
