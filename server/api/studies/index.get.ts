@@ -1,0 +1,9 @@
+/** GET /api/studies?status=&mine=1 — any signed-in user: every study with status, owner, outcome and last run. */
+import { studyListQuerySchema } from '#shared/schemas/studies'
+import { listStudies } from '../../services/studies/studies'
+
+export default defineEventHandler(async (event) => {
+  const user = await requireUser(event)
+  const query = await getValidatedQuery(event, check(studyListQuerySchema, 'query'))
+  return listStudies(query, user)
+})

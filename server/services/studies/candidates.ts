@@ -1,0 +1,243 @@
+/**
+ * Donor candidates of a study: every jurisdiction with outcome data that is not treated,
+ * scored by the engine over the pre-period (scoreDonors), with automatic flags:
+ *   related_policy  a policy event (adoption, strengthening or repeal of any policy) dated
+ *                   inside the study's window (or the data's span without a window)
+ *   neighbour       borders a treated jurisdiction: spillover (diffusion) is likely
+ *   missing_data    more than `maxMissing` of the pre-periods have no value
+ * plus any exclusion the engine reports. A unit is in the pool when the analyst's saved
+ * decision says so, otherwise when it is in the suggested pool: the k best by composite
+ * rank among the unflagged (k = 10 unless asked). Balance: pre-period means, treated
+ * against pool.
+ */
+import { eq, inArray, or } from 'drizzle-orm'
+import { jurisdictionNeighbours, jurisdictions, policyEvents, studyPoolDecisions } from '~~/db/schema'
+import { scoreDonors, isEngineError, type DonorScoreRow, type DonorScores } from '~~/server/engine'
+import { comparePeriods, parsePeriod } from '#shared/utils/periods'
+import type { StudyRow } from './fingerprint'
+import { engineRows, readStudyRows, OUTCOME, type RowSource, type StudyRows } from './rows'
+import { studySpecBase, startsOf } from './spec'
+import type { StudyRecord } from './runData'
+
+export interface Exclusion { reason: string, detail: string }
+
+/** A candidate's engine scores (shared/engine/result.ts) with its flags and pool decision. */
+export interface PoolRow extends Omit<DonorScoreRow, 'unit' | 'exclusions'> {
+  jurisdiction: string
+  name: string
+  kind: string
+  region: string | null
+  exclusions: Exclusion[]
+  flagged: boolean
+  included: boolean
+  /** The analyst's saved decision, if any (otherwise `included` follows the suggestion). */
+  decided: boolean
+  reason: string | null
+  suggested: boolean
+}
+
+export interface BalanceRow { measure: string, label: string, treated: number | null, pool: number | null, difference: number | null, standardised: number | null }
+
+export interface CandidateContext {
+  study: StudyRecord
+  source: RowSource
+  data: StudyRows
+  scores: DonorScores
+  candidates: string[]
+  flags: Map<string, Exclusion[]>
+  info: Map<string, { name: string, kind: string, region: string | null }>
+  prePeriods: Set<string>
+  maxMissing: number
+}
+
+export function studySource(study: StudyRecord, units: string[] = []): RowSource {
+  return {
+    outcome: study.outcome,
+    covariates: study.covariates,
+    denominator: study.denominator,
+    transform: study.transform,
+    units,
+    from: study.window?.pre[0] ?? null,
+    to: study.window?.post[1] ?? null,
+  }
+}
+
+const safeCompare = (a: string, b: string) => {
+  try {
+    return comparePeriods(a, b)
+  }
+  catch {
+    return a < b ? -1 : a > b ? 1 : 0
+  }
+}
+
+/** Reads the rows, scores every candidate and finds the flags (no decisions yet). */
+export async function candidateContext(study: StudyRecord, maxMissing = 0.2): Promise<CandidateContext> {
+  const source = studySource(study)
+  const data = await readStudyRows(source)
+  const units = [...new Set(data.rows.map(r => r.jurisdiction))]
+  const missingTreated = study.treated.filter(c => !units.includes(c))
+  if (missingTreated.length) badRequest(`No ${study.outcome} data for the treated jurisdiction${missingTreated.length > 1 ? 's' : ''} ${missingTreated.join(', ')}${source.from ? ` between ${source.from} and ${source.to}` : ''}.`, [{ path: 'treated', message: 'No outcome data.' }])
+  const candidates = units.filter(u => !study.treated.includes(u))
+  if (!candidates.length) badRequest(`No other jurisdiction has ${study.outcome} data to compare with.`)
+  let scores: DonorScores
+  try {
+    scores = scoreDonors({ rows: engineRows(data.rows) }, { ...studySpecBase(study), design: 'did', comparison: candidates })
+  }
+  catch (e) {
+    if (isEngineError(e)) badRequest(e.message)
+    throw e
+  }
+  const db = useDb()
+  const rows = await db.select({ id: jurisdictions.id, code: jurisdictions.code, name: jurisdictions.name, kind: jurisdictions.kind, region: jurisdictions.region })
+    .from(jurisdictions).where(inArray(jurisdictions.code, units))
+  const info = new Map(rows.map(r => [r.code, r]))
+  const idOf = new Map(rows.map(r => [r.id, r.code]))
+  const treatedIds = rows.filter(r => study.treated.includes(r.code)).map(r => r.id)
+  const flags = new Map<string, Exclusion[]>(candidates.map(c => [c, []]))
+
+  // policy events inside the window (or the span of the data)
+  const periods = [...new Set(data.rows.map(r => r.period))].sort(safeCompare)
+  const from = source.from ?? periods[0]!
+  const to = source.to ?? periods[periods.length - 1]!
+  const candidateIds = rows.filter(r => flags.has(r.code)).map(r => r.id)
+  const events = await db.select({ jurisdictionId: policyEvents.jurisdictionId, period: policyEvents.period, kind: policyEvents.kind, policy: policyEvents.policy, label: policyEvents.label })
+    .from(policyEvents).where(inArray(policyEvents.jurisdictionId, candidateIds.length ? candidateIds : [-1]))
+  for (const e of events) {
+    const inside = sameFrequencyWithin(e.period, from, to)
+    if (inside) flags.get(idOf.get(e.jurisdictionId)!)!.push({ reason: 'related_policy', detail: `${e.kind} of ${e.policy} in ${e.period}: ${e.label}` })
+  }
+  // neighbours of a treated unit (links are kept symmetric; read both directions anyway)
+  if (treatedIds.length) {
+    const links = await db.select().from(jurisdictionNeighbours).where(or(inArray(jurisdictionNeighbours.jurisdictionId, treatedIds), inArray(jurisdictionNeighbours.neighbourId, treatedIds)))
+    const seen = new Set<string>()
+    for (const l of links) {
+      const [t, n] = treatedIds.includes(l.jurisdictionId) ? [l.jurisdictionId, l.neighbourId] : [l.neighbourId, l.jurisdictionId]
+      const code = idOf.get(n)
+      const key = `${code}:${t}`
+      if (code && flags.has(code) && !seen.has(key)) {
+        seen.add(key)
+        flags.get(code)!.push({ reason: 'neighbour', detail: `borders treated ${idOf.get(t)}: spillover is likely` })
+      }
+    }
+  }
+  for (const s of scores.rows) {
+    const list = flags.get(s.unit)
+    if (!list) continue
+    if (s.missingShare > maxMissing) list.push({ reason: 'missing_data', detail: `${Math.round(s.missingShare * 100)}% of pre-periods have no value (limit ${Math.round(maxMissing * 100)}%)` })
+    for (const x of s.exclusions) if (!list.some(y => y.reason === x.reason)) list.push(x)
+  }
+  return { study, source, data, scores, candidates, flags, info, prePeriods: new Set(scores.prePeriods), maxMissing }
+}
+
+function sameFrequencyWithin(p: string, from: string, to: string): boolean {
+  try {
+    const f = parsePeriod(from).frequency
+    const q = parsePeriod(p)
+    if (q.frequency === f) return comparePeriods(p, from) >= 0 && comparePeriods(p, to) <= 0
+    // a differently dated event: compare its calendar text with the window's
+    return p.slice(0, from.length) >= from && p.slice(0, to.length) <= to
+  }
+  catch {
+    return false
+  }
+}
+
+export async function poolDecisions(studyId: number) {
+  return useDb().select({ jurisdiction: jurisdictions.code, included: studyPoolDecisions.included, reason: studyPoolDecisions.reason })
+    .from(studyPoolDecisions).innerJoin(jurisdictions, eq(jurisdictions.id, studyPoolDecisions.jurisdictionId))
+    .where(eq(studyPoolDecisions.studyId, studyId))
+}
+
+/** The candidate table with decisions applied, the suggested pool and the balance summary. */
+export function assemblePool(ctx: CandidateContext, decisions: { jurisdiction: string, included: boolean, reason: string | null }[], k = 10) {
+  const byCode = new Map(decisions.map(d => [d.jurisdiction, d]))
+  const unflaggedByRank = ctx.scores.rows
+    .filter(s => ctx.flags.has(s.unit) && !ctx.flags.get(s.unit)!.length)
+    .sort((a, b) => (a.rank ?? Infinity) - (b.rank ?? Infinity))
+  const suggested = new Set(unflaggedByRank.slice(0, k).map(s => s.unit))
+  const rows: PoolRow[] = ctx.scores.rows.filter(s => ctx.flags.has(s.unit)).map((s) => {
+    const exclusions = ctx.flags.get(s.unit)!
+    const d = byCode.get(s.unit)
+    const i = ctx.info.get(s.unit)
+    return {
+      jurisdiction: s.unit,
+      name: i?.name ?? s.unit,
+      kind: i?.kind ?? '',
+      region: i?.region ?? null,
+      rmspe: s.rmspe,
+      rmspeDemeaned: s.rmspeDemeaned,
+      correlation: s.correlation,
+      slopeDiff: s.slopeDiff,
+      covariateDistance: s.covariateDistance,
+      missingShare: s.missingShare,
+      ranks: s.ranks,
+      rank: s.rank,
+      exclusions,
+      flagged: exclusions.length > 0,
+      included: d ? d.included : suggested.has(s.unit),
+      decided: !!d,
+      reason: d?.reason ?? null,
+      suggested: suggested.has(s.unit),
+    }
+  })
+  rows.sort((a, b) => (a.rank ?? Infinity) - (b.rank ?? Infinity) || (a.jurisdiction < b.jurisdiction ? -1 : 1))
+  const pool = rows.filter(r => r.included).map(r => r.jurisdiction)
+  return {
+    rows,
+    summary: {
+      candidates: rows.length,
+      poolSize: pool.length,
+      flagged: rows.filter(r => r.flagged).length,
+      overridden: rows.filter(r => r.flagged && r.included).length,
+      suggested: [...suggested],
+      treated: ctx.study.treated,
+      prePeriods: ctx.scores.prePeriods.length,
+      balance: balance(ctx, pool),
+      warnings: ctx.scores.warnings,
+    },
+  }
+}
+
+/** Pre-period means of the outcome and each covariate: treated units against the pool. */
+export function balance(ctx: CandidateContext, pool: string[]): BalanceRow[] {
+  const keys = [OUTCOME, ...ctx.study.covariates]
+  const inPool = new Set(pool)
+  const treated = new Set(ctx.study.treated)
+  const unitMeans = (rows: StudyRow[], key: string) => {
+    const acc = new Map<string, [number, number]>()
+    for (const r of rows) {
+      const v = r.values[key]
+      if (v == null || !ctx.prePeriods.has(r.period)) continue
+      const a = acc.get(r.jurisdiction) ?? [0, 0]
+      a[0] += v
+      a[1]++
+      acc.set(r.jurisdiction, a)
+    }
+    return new Map([...acc].map(([u, [s, n]]) => [u, s / n]))
+  }
+  const mean = (xs: number[]) => (xs.length ? xs.reduce((a, b) => a + b, 0) / xs.length : null)
+  return keys.map((key) => {
+    const m = unitMeans(ctx.data.rows, key)
+    const t = mean([...m].filter(([u]) => treated.has(u)).map(([, v]) => v))
+    const poolMeans = [...m].filter(([u]) => inPool.has(u)).map(([, v]) => v)
+    const p = mean(poolMeans)
+    const sd = poolMeans.length > 1 ? Math.sqrt(poolMeans.reduce((a, v) => a + (v - p!) ** 2, 0) / (poolMeans.length - 1)) : null
+    const diff = t !== null && p !== null ? t - p : null
+    return {
+      measure: key === OUTCOME ? ctx.study.outcome : key,
+      label: key === OUTCOME ? `${ctx.study.outcome} (outcome${ctx.study.transform === 'rate' ? ', per 1,000' : ''})` : key,
+      treated: t,
+      pool: p,
+      difference: diff,
+      standardised: diff !== null && sd ? diff / sd : null,
+    }
+  })
+}
+
+/** Codes of the pool as decided (saved decisions, else the suggested pool). */
+export function includedPool(ctx: CandidateContext, decisions: { jurisdiction: string, included: boolean, reason: string | null }[], k = 10): string[] {
+  return assemblePool(ctx, decisions, k).rows.filter(r => r.included).map(r => r.jurisdiction)
+}
+
+export { startsOf }

@@ -1,0 +1,47 @@
+/**
+ * Saving pool decisions: each names a candidate and whether it is in the pool. Including a
+ * flagged candidate overrides its flags and needs a reason (400 otherwise). Decisions are
+ * upserted, audit-logged with the decisions before and after, and the re-scored table is
+ * returned.
+ */
+import { eq, inArray, sql } from 'drizzle-orm'
+import { jurisdictions, studies, studyPoolDecisions } from '~~/db/schema'
+import type { z } from 'zod'
+import type { poolPutSchema } from '#shared/schemas/studies'
+import type { SessionUser } from '../../utils/auth'
+import { assemblePool, candidateContext, poolDecisions } from './candidates'
+import type { StudyRecord } from './runData'
+
+export async function savePool(study: StudyRecord, user: SessionUser, body: z.output<typeof poolPutSchema>, k = 10) {
+  const ctx = await candidateContext(study)
+  const issues: { path: string, message: string }[] = []
+  const seen = new Set<string>()
+  body.decisions.forEach((d, i) => {
+    const flags = ctx.flags.get(d.jurisdiction)
+    if (seen.has(d.jurisdiction)) issues.push({ path: `decisions.${i}.jurisdiction`, message: `${d.jurisdiction} is listed twice.` })
+    seen.add(d.jurisdiction)
+    if (!flags) issues.push({ path: `decisions.${i}.jurisdiction`, message: study.treated.includes(d.jurisdiction) ? `${d.jurisdiction} is treated in this study.` : `${d.jurisdiction} is not a candidate (no ${study.outcome} data).` })
+    else if (d.included && flags.length && !d.reason) {
+      issues.push({ path: `decisions.${i}.reason`, message: `${d.jurisdiction} is flagged (${flags.map(f => f.detail).join('; ')}): give a reason to include it.` })
+    }
+  })
+  if (issues.length) badRequest(issues[0]!.message, issues)
+  const db = useDb()
+  const ids = new Map((await db.select({ id: jurisdictions.id, code: jurisdictions.code }).from(jurisdictions)
+    .where(inArray(jurisdictions.code, body.decisions.map(d => d.jurisdiction)))).map(r => [r.code, r.id]))
+  await db.transaction(async (tx) => {
+    const before = await tx.select().from(studyPoolDecisions).where(eq(studyPoolDecisions.studyId, study.id))
+    const values = body.decisions.map(d => ({ studyId: study.id, jurisdictionId: ids.get(d.jurisdiction)!, included: d.included, reason: d.reason, decidedBy: user.id, decidedAt: new Date() }))
+    await tx.insert(studyPoolDecisions).values(values).onConflictDoUpdate({
+      target: [studyPoolDecisions.studyId, studyPoolDecisions.jurisdictionId],
+      set: { included: sql`excluded.included`, reason: sql`excluded.reason`, decidedBy: sql`excluded.decided_by`, decidedAt: sql`excluded.decided_at` },
+    })
+    await tx.update(studies).set({ updatedAt: new Date() }).where(eq(studies.id, study.id))
+    await audit(tx, {
+      userId: user.id, action: 'pool', entity: 'study', entityId: study.id,
+      before: before.map(b => ({ jurisdictionId: b.jurisdictionId, included: b.included, reason: b.reason })),
+      after: body.decisions,
+    })
+  })
+  return assemblePool(ctx, await poolDecisions(study.id), k)
+}

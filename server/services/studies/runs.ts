@@ -1,0 +1,122 @@
+/**
+ * Runs: one estimate of a study, stored with its spec, the fingerprint of the exact rows
+ * the engine read, the release ids those rows came from, how to read them again
+ * (study_runs.data) and the engine's result. A run is compared with the previous run of
+ * the same design: what moved (estimate, SE) and whether the data changed.
+ */
+import { and, desc, eq, lt } from 'drizzle-orm'
+import { studyRuns, users } from '~~/db/schema'
+import { estimate, isEngineError, parseSpec, type EstimateResult } from '~~/server/engine'
+import type { RunCreate } from '#shared/schemas/studies'
+import { runCreateSchema } from '#shared/schemas/studies'
+import type { z } from 'zod'
+import { fingerprintRows } from './fingerprint'
+import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
+import { engineRows, readStudyRows } from './rows'
+import { buildRunSpec } from './spec'
+import type { Run, RunData, StudyRecord } from './runData'
+
+type RunInput = z.output<typeof runCreateSchema>
+
+const runColumns = {
+  id: studyRuns.id,
+  studyId: studyRuns.studyId,
+  design: studyRuns.design,
+  spec: studyRuns.spec,
+  fingerprint: studyRuns.fingerprint,
+  releaseIds: studyRuns.releaseIds,
+  data: studyRuns.data,
+  result: studyRuns.result,
+  createdAt: studyRuns.createdAt,
+  createdBy: studyRuns.createdBy,
+  createdByName: users.name,
+}
+type RunRow = Omit<Run, 'data'> & { data: unknown, createdByName: string | null }
+
+/** Estimate, SE and data changes from the previous run of the same design. */
+export function compareRuns(run: Pick<RunRow, 'id' | 'fingerprint' | 'releaseIds' | 'result'>, previous: Pick<RunRow, 'id' | 'fingerprint' | 'releaseIds' | 'result'> | undefined) {
+  if (!previous) return null
+  const a = (run.result as unknown as EstimateResult).effect
+  const b = (previous.result as unknown as EstimateResult).effect
+  return {
+    previousId: previous.id,
+    estimateDelta: a.estimate - b.estimate,
+    seDelta: a.se - b.se,
+    dataChanged: run.fingerprint !== previous.fingerprint,
+    releasesAdded: run.releaseIds.filter(id => !previous.releaseIds.includes(id)),
+    releasesDropped: previous.releaseIds.filter(id => !run.releaseIds.includes(id)),
+  }
+}
+
+function present(run: RunRow, previous?: RunRow) {
+  const data = run.data as RunData
+  return {
+    id: run.id,
+    studyId: run.studyId,
+    design: run.design,
+    spec: run.spec,
+    fingerprint: run.fingerprint,
+    releaseIds: run.releaseIds,
+    releases: data.releases ?? [],
+    units: data.source?.units ?? [],
+    result: run.result as unknown as EstimateResult,
+    createdAt: run.createdAt,
+    createdBy: run.createdByName,
+    compare: compareRuns(run, previous),
+  }
+}
+export type RunView = ReturnType<typeof present>
+
+export async function createRun(study: StudyRecord, userId: number, input: RunInput | RunCreate) {
+  const { design, options } = runCreateSchema.parse(input)
+  const ctx = await candidateContext(study)
+  const decisions = await poolDecisions(study.id)
+  const comparison = includedPool(ctx, decisions)
+  const usesPool = design === 'did' || design === 'event_study'
+  if (usesPool && !comparison.length) badRequest('The pool is empty: include at least one comparison jurisdiction on the Pool step.')
+  const units = usesPool ? [...study.treated, ...comparison] : [...study.treated]
+  const source = studySource(study, units.sort())
+  const read = await readStudyRows(source)
+  const periods = [...new Set(read.rows.map(r => r.period))].sort()
+  const specInput = buildRunSpec(study, design, options, comparison, periods)
+  let result: EstimateResult
+  let spec: Record<string, unknown>
+  try {
+    spec = parseSpec(specInput) as unknown as Record<string, unknown>
+    result = estimate({ rows: engineRows(read.rows) }, spec)
+  }
+  catch (e) {
+    if (isEngineError(e)) badRequest(e.message)
+    throw e
+  }
+  const fingerprint = fingerprintRows(read.rows, spec)
+  const data: RunData = { source, frequency: read.frequency, releases: read.releases, pool: assemblePool(ctx, decisions).rows }
+  const db = useDb()
+  const id = await db.transaction(async (tx) => {
+    const [row] = await tx.insert(studyRuns).values({
+      studyId: study.id, design, spec, fingerprint, releaseIds: read.releaseIds, data: data as unknown as Record<string, unknown>,
+      result: result as unknown as Record<string, unknown>, createdBy: userId,
+    }).returning({ id: studyRuns.id })
+    await audit(tx, { userId, action: 'run', entity: 'study', entityId: study.id, after: { runId: row!.id, design, fingerprint, releaseIds: read.releaseIds, effect: result.effect } })
+    return row!.id
+  })
+  return getRun(study.id, id)
+}
+
+export async function listRuns(studyId: number) {
+  const rows = await useDb().select(runColumns).from(studyRuns).leftJoin(users, eq(users.id, studyRuns.createdBy))
+    .where(eq(studyRuns.studyId, studyId)).orderBy(desc(studyRuns.id)) as RunRow[]
+  // newest first; each run compared with the one before it of the same design
+  return rows.map((r, i) => present(r, rows.slice(i + 1).find(p => p.design === r.design)))
+}
+
+export async function getRun(studyId: number, runId: number) {
+  const db = useDb()
+  const [run] = await db.select(runColumns).from(studyRuns).leftJoin(users, eq(users.id, studyRuns.createdBy))
+    .where(and(eq(studyRuns.id, runId), eq(studyRuns.studyId, studyId))) as RunRow[]
+  if (!run) throw createError({ statusCode: 404, message: `Study ${studyId} has no run ${runId}.` })
+  const [previous] = await db.select(runColumns).from(studyRuns).leftJoin(users, eq(users.id, studyRuns.createdBy))
+    .where(and(eq(studyRuns.studyId, studyId), eq(studyRuns.design, run.design), lt(studyRuns.id, runId)))
+    .orderBy(desc(studyRuns.id)).limit(1) as RunRow[]
+  return present(run, previous)
+}

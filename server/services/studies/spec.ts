@@ -1,0 +1,80 @@
+/**
+ * From a study to the engine's spec: the study fixes the outcome column, transform, treated
+ * units and their starts, the window and the covariates; a run adds its design, the pool
+ * as comparison, and options. Defaults a practitioner would choose where the run says
+ * nothing: an event window of a year either side for monthly data (8 quarters, 5 years,
+ * else 6 periods) clipped to the data and, on the lead side, to fewer leads than clusters
+ * (so the joint lead test can be computed); for its the treated unit's interventions as breaks
+ * and seasonal dummies for monthly or quarterly data. Pure.
+ */
+import type { SpecInput } from '#shared/engine/spec'
+import type { RunDesign } from '#shared/schemas/studies'
+import { parsePeriod } from '#shared/utils/periods'
+import type { z } from 'zod'
+import type { runOptionsSchema } from '#shared/schemas/studies'
+
+export interface StudyForSpec {
+  treated: string[]
+  start: string | Record<string, string>
+  interventions: { jurisdiction: string, period: string, label: string }[]
+  window: { pre: [string, string], post: [string, string] } | null
+  covariates: string[]
+  transform: 'level' | 'log' | 'rate'
+}
+
+export type RunOptions = z.output<typeof runOptionsSchema>
+
+/** Each treated unit's first treated period. */
+export function startsOf(study: Pick<StudyForSpec, 'treated' | 'start'>): Record<string, string> {
+  const out: Record<string, string> = {}
+  for (const code of study.treated) out[code] = typeof study.start === 'string' ? study.start : study.start[code]!
+  return out
+}
+
+export function studySpecBase(study: StudyForSpec) {
+  return {
+    outcome: 'outcome',
+    treated: study.treated,
+    start: study.start,
+    covariates: study.covariates,
+    transform: study.transform === 'log' ? 'log' as const : 'level' as const,
+    ...(study.window ? { window: study.window } : {}),
+  }
+}
+
+const SPAN: Record<string, number> = { month: 12, quarter: 8, year: 5 }
+
+/** periods: the sorted canonical periods of the rows the run will read. */
+export function buildRunSpec(study: StudyForSpec, design: RunDesign, options: RunOptions, comparison: string[], periods: string[]): SpecInput {
+  const spec: SpecInput = { design, ...studySpecBase(study) }
+  if (design === 'did' || design === 'event_study') spec.comparison = comparison
+  if (design === 'event_study' && !options.eventWindow && periods.length) {
+    const freq = parsePeriod(periods[0]!).frequency
+    const span = SPAN[freq] ?? 6
+    const first = parsePeriod(periods[0]!).ordinal
+    const last = parsePeriod(periods[periods.length - 1]!).ordinal
+    const starts = Object.values(startsOf(study)).map(p => parsePeriod(p).ordinal)
+    const lead = Math.max(...starts.map(s => s - first))
+    const lag = Math.max(...starts.map(s => last - s))
+    // the joint lead test needs fewer leads than clusters: keep from..-2 under G - 1 leads
+    const clusters = study.treated.length + comparison.length
+    const leads = Math.max(2, Math.min(span, lead, clusters - 1))
+    spec.eventWindow = { from: -leads, to: Math.max(0, Math.min(span, lag)), reference: -1, bin: true }
+  }
+  if (design === 'its') {
+    const unit = study.treated[0]!
+    const freq = periods.length ? parsePeriod(periods[0]!).frequency : 'integer'
+    const inData = (p: string) => periods.length > 0 && p > periods[0]! && p <= periods[periods.length - 1]!
+    const fromEvents = study.interventions.filter(i => i.jurisdiction === unit).map(i => i.period)
+    const breaks = [...new Set([startsOf(study)[unit]!, ...fromEvents])].filter(inData).sort()
+    spec.its = {
+      seasonality: freq === 'month' ? 'month' : freq === 'quarter' ? 'quarter' : 'none',
+      ...(breaks.length ? { breaks } : {}),
+      ...options.its,
+    }
+  }
+  const { its: _its, eventWindow, ...rest } = options
+  if (eventWindow) spec.eventWindow = eventWindow
+  Object.assign(spec, rest)
+  return spec
+}
