@@ -4,13 +4,10 @@
  * Pure; shared by the server and the browser.
  */
 import type { EstimateResult } from '../engine/result'
+import { ESTIMATE_CAUTIONS } from '../schemas/studies'
 
-export const STANDING_CAUTIONS = [
-  'These are observational estimates. They rest on assumptions (parallel trends, no spillover to the comparison units, no anticipation of the policy) that data cannot prove.',
-  'With few treated units or few clusters, standard errors, intervals and p-values can be unreliable.',
-  'Small counts may need suppression under the agency\'s disclosure rules before this leaves the office.',
-  'Follow the agency\'s evaluation standards and seek qualified review before a decision is made on these figures.',
-] as const
+/** The cautions that stand beside every estimate (one list, kept with the study schemas). */
+export const STANDING_CAUTIONS = ESTIMATE_CAUTIONS
 
 /** Below this many clusters, cluster-robust errors are known to be fragile. */
 export const FEW_CLUSTERS = 30

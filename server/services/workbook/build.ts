@@ -66,7 +66,7 @@ export interface WorkbookInput {
     outcomeLabel?: string | null
     transform: string
     treated: string[]
-    start: string | Record<string, string>
+    start: string | number | Record<string, string | number>
     window: { pre: [string, string], post: [string, string] } | null
     covariates: string[]
     status: string
@@ -134,8 +134,9 @@ function table(wb: ExcelJS.Workbook, name: string, columns: Column[], rows: Cell
   return ws
 }
 
-const fmtStart = (start: string | Record<string, string>) =>
-  typeof start === 'string' ? start : Object.entries(start).map(([u, p]) => `${u}: ${p}`).join('; ')
+/** The policy start as text; a stored "2007" may come back from jsonb as the number 2007. */
+export const formatStart = (start: string | number | Record<string, string | number>) =>
+  start !== null && typeof start === 'object' ? Object.entries(start).map(([u, p]) => `${u}: ${p}`).join('; ') : String(start)
 
 const iso = (d: Date | string | null) => (d == null ? null : new Date(d).toISOString())
 
@@ -175,7 +176,7 @@ function summary(wb: ExcelJS.Workbook, input: WorkbookInput) {
   add('Outcome', study.outcomeLabel ? `${study.outcomeLabel} (${study.outcome})` : study.outcome)
   add('Transform', study.transform)
   add('Treated units', study.treated.join(', '))
-  add('Policy start', fmtStart(study.start))
+  add('Policy start', formatStart(study.start))
   if (study.window) {
     add('Pre-period', `${study.window.pre[0]} to ${study.window.pre[1]}`)
     add('Post-period', `${study.window.post[0]} to ${study.window.post[1]}`)
