@@ -1,0 +1,85 @@
+/**
+ * Run fingerprints against data releases, on a small panel uploaded through the API: a new
+ * release that republishes the same values leaves the fingerprint as it was (the release ids
+ * change, the rows do not); a release that changes one value the run reads changes it, and
+ * the rerun says what moved. An older run still reads back exactly from its own releases.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { as, type Client } from '../support/http'
+import { closePool } from '../support/db'
+import { runTag, uploadRelease, waitForJob } from '../support/uploads'
+import { readRowsBack } from '../support/studies'
+import { fingerprintRows } from '../../server/services/studies/fingerprint'
+
+let admin: Client
+let analyst: Client
+let sourceId: number
+let studyId: number
+const tag = runTag()
+const T = `F${tag}-T`
+const donors = [1, 2, 3, 4].map(n => `F${tag}-C${n}`)
+const key = `claims_${tag.toLowerCase()}`
+const mapping = { layout: 'long', jurisdiction: 'code', period: 'month', values: { value: key } }
+const months = Array.from({ length: 24 }, (_, i) => `${2020 + Math.floor(i / 12)}-${String((i % 12) + 1).padStart(2, '0')}`)
+
+function value(code: string, i: number) {
+  const u = [T, ...donors].indexOf(code)
+  return 50 + 3 * u + 0.2 * i + ((i * 7 + u * 3) % 5) * 0.3 - (code === T && i >= 12 ? 4 : 0)
+}
+function csv(rows: [string, string, number][]) {
+  return `code,month,value\n${rows.map(r => r.join(',')).join('\n')}\n`
+}
+const allRows = () => [T, ...donors].flatMap(code => months.map((m, i) => [code, m, value(code, i)] as [string, string, number]))
+
+async function release(text: string, label: string) {
+  const res = await uploadRelease(analyst, sourceId, text, `${label}.csv`, mapping, label)
+  expect(res.status, JSON.stringify(res.body)).toBe(202)
+  expect((await waitForJob(analyst, res.body.jobId)).state).toBe('done')
+  return res.body.releaseId as number
+}
+
+async function run() {
+  const res = await analyst.post(`/api/studies/${studyId}/runs`, { design: 'did' })
+  expect(res.status, JSON.stringify(res.body)).toBe(201)
+  return res.body
+}
+
+beforeAll(async () => {
+  ;[admin, analyst] = await Promise.all([as('admin'), as('analyst')])
+  for (const code of [T, ...donors]) expect((await admin.post('/api/jurisdictions', { code, name: `Town ${code}`, kind: 'municipality', region: 'Test' })).status).toBe(201)
+  expect((await admin.post('/api/measures', { key, label: 'Claims', unit: 'claims', kind: 'outcome', frequency: 'month' })).status).toBe(201)
+  sourceId = (await admin.post('/api/sources', { name: `Claims office ${tag}`, publisher: 'Claims office' })).body.id
+  await release(csv(allRows()), 'first')
+  const s = await analyst.post('/api/studies', { title: `Claims ${tag}`, outcome: key, treated: [T], start: '2021-01' })
+  expect(s.status, JSON.stringify(s.body)).toBe(201)
+  studyId = s.body.id
+})
+afterAll(closePool)
+
+describe('fingerprints and releases', () => {
+  it('stays the same when a release republishes the same values, changes when a value changes', async () => {
+    const first = await run()
+    expect([...first.spec.comparison].sort()).toEqual([...donors].sort())
+    expect(first.result.effect.estimate).toBeCloseTo(-4, 0)
+
+    // the same values again, in another order: a new release (newest for every cell), same rows
+    const second = await release(csv([...allRows()].reverse()), 'republished')
+    const same = await run()
+    expect(same.releaseIds).toEqual([second])
+    expect(same.fingerprint).toBe(first.fingerprint)
+    expect(same.compare).toMatchObject({ previousId: first.id, dataChanged: false, estimateDelta: 0, releasesAdded: [second] })
+
+    // one revised value of one donor
+    const third = await release(csv([[donors[1]!, '2021-06', value(donors[1]!, 17) + 2.5]]), 'revision')
+    const changed = await run()
+    expect(changed.releaseIds).toEqual([second, third])
+    expect(changed.fingerprint).not.toBe(first.fingerprint)
+    expect(changed.compare).toMatchObject({ previousId: same.id, dataChanged: true, releasesAdded: [third] })
+    expect(changed.compare.estimateDelta).not.toBe(0)
+
+    // each run still reads back exactly from its own releases
+    for (const r of [first, same, changed]) expect(fingerprintRows(await readRowsBack(r.id), r.spec)).toBe(r.fingerprint)
+    const listed = (await analyst.get(`/api/studies/${studyId}/runs`)).body as { id: number, compare: { dataChanged: boolean } | null }[]
+    expect(listed.map(r => r.compare?.dataChanged ?? null)).toEqual([true, false, null])
+  })
+})

@@ -1,0 +1,38 @@
+/** buildRunSpec: the study's fields, the pool as comparison, and the defaults a run gets. */
+import { describe, expect, it } from 'vitest'
+import { parseSpec } from '../../../../server/engine'
+import { buildRunSpec } from '../../../../server/services/studies/spec'
+
+const study = {
+  treated: ['A'],
+  start: '2017-07',
+  interventions: [{ jurisdiction: 'A', period: '2017-07', label: 'adopted' }, { jurisdiction: 'A', period: '2020-01', label: 'strengthened' }],
+  window: null,
+  covariates: ['rent'],
+  transform: 'rate' as const,
+}
+const periods = Array.from({ length: 13 * 12 }, (_, i) => `${2012 + Math.floor(i / 12)}-${String((i % 12) + 1).padStart(2, '0')}`)
+const pool = Array.from({ length: 20 }, (_, i) => `D${i}`)
+
+describe('buildRunSpec', () => {
+  it('did: the pool is the comparison; a rate is analysed in levels', () => {
+    const spec = parseSpec(buildRunSpec(study, 'did', {}, pool, periods))
+    expect(spec).toMatchObject({ design: 'did', outcome: 'outcome', treated: ['A'], start: '2017-07', comparison: pool, covariates: ['rent'], transform: 'level' })
+  })
+
+  it('event study: a year either side for monthly data, fewer leads than clusters', () => {
+    expect(buildRunSpec(study, 'event_study', {}, pool, periods).eventWindow).toEqual({ from: -12, to: 12, reference: -1, bin: true })
+    expect(buildRunSpec(study, 'event_study', {}, pool.slice(0, 5), periods).eventWindow).toEqual({ from: -5, to: 12, reference: -1, bin: true })
+    expect(buildRunSpec(study, 'event_study', { eventWindow: { from: -3, to: 3, reference: -1, bin: false } }, pool, periods).eventWindow).toEqual({ from: -3, to: 3, reference: -1, bin: false })
+  })
+
+  it('its: every intervention of the unit is a break, with monthly seasons; no comparison', () => {
+    const spec = buildRunSpec(study, 'its', {}, pool, periods)
+    expect(spec.its).toEqual({ seasonality: 'month', breaks: ['2017-07', '2020-01'] })
+    expect(spec.comparison).toBeUndefined()
+  })
+
+  it('options are passed on', () => {
+    expect(buildRunSpec(study, 'did', { did: { form: '2x2' }, smallSample: 'full' }, pool, periods)).toMatchObject({ did: { form: '2x2' }, smallSample: 'full' })
+  })
+})
