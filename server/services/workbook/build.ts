@@ -15,6 +15,7 @@
 import ExcelJS from 'exceljs'
 import type { EstimateResult } from '../../../shared/engine/result'
 import { allCautions } from '../../../shared/delivery/cautions'
+import { guardFormula } from '../../../shared/delivery/formulaGuard'
 import { ASSESSMENT_LABELS, THREATS, type Assessment } from '../../../shared/schemas/validity'
 
 export interface WorkbookPoolRow {
@@ -102,12 +103,8 @@ export const FORMATS = {
   stat: '0.000',
 } as const
 
-const RISKY = /^[=+\-@\t\r]/
-
 /** Text for a cell: never read as a formula (see the file comment). */
-export function safeText(value: string): string {
-  return RISKY.test(value) ? `'${value}` : value
-}
+export const safeText = guardFormula
 
 type CellValue = string | number | boolean | Date | null | undefined
 

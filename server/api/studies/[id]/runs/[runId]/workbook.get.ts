@@ -2,13 +2,11 @@
  * GET /api/studies/:id/runs/:runId/workbook — any signed-in user who may read the study:
  * the run's estimates workbook (.xlsx) as a download.
  */
-import { z } from 'zod'
+import { runParamSchema } from '#shared/schemas/studies'
 import { runWorkbook } from '../../../../../services/workbook/load'
 
-const params = z.object({ id: z.coerce.number().int().positive(), runId: z.coerce.number().int().positive() })
-
 export default defineEventHandler(async (event) => {
-  const { id, runId } = await getValidatedRouterParams(event, check(params, 'path'))
+  const { id, runId } = await getValidatedRouterParams(event, check(runParamSchema, 'path'))
   const { user } = await requireStudy(event, id, 'read')
   const { buffer, fileName } = await runWorkbook(id, runId, user)
   audit(useDb(), { userId: user.id, action: 'export.workbook', entity: 'study_run', entityId: runId, after: { studyId: id, fileName } }).catch(() => {})
