@@ -12,6 +12,16 @@ const everyone = ['admin', 'analyst', 'reviewer'] as const
 export const NAVIGATION: NavSection[] = [
   { title: 'Work', items: [{ label: 'Overview', to: '/', roles: everyone }] },
   {
+    title: 'Data',
+    items: [
+      { label: 'Jurisdictions', to: '/data/jurisdictions', roles: everyone },
+      { label: 'Sources & uploads', to: '/data/sources', roles: everyone },
+      { label: 'Measures', to: '/data/measures', roles: everyone },
+      { label: 'Policy events', to: '/data/policy-events', roles: everyone },
+      { label: 'Panel browser', to: '/data/panel', roles: everyone },
+    ],
+  },
+  {
     title: 'Administration',
     items: [
       { label: 'People & access', to: '/admin/users', roles: ['admin'] },

@@ -2,6 +2,7 @@
 import { fileURLToPath } from 'node:url'
 import { drizzle } from 'drizzle-orm/node-postgres'
 import pg from 'pg'
+import { seedDemoScenario } from './demoScenario'
 import { seedUsers } from './users'
 
 export async function seed(url: string): Promise<void> {
@@ -9,6 +10,7 @@ export async function seed(url: string): Promise<void> {
   try {
     const db = drizzle(pool)
     await seedUsers(db)
+    await seedDemoScenario(pool)
   }
   finally {
     await pool.end()

@@ -9,7 +9,7 @@
  * failed with its problems and holds no observations.
  */
 import type pg from 'pg'
-import { mappingSchema, type UploadProblem } from '#shared/schemas/uploads'
+import { mappingSchema, type UploadProblem } from '../../../shared/schemas/uploads'
 import { readTable, UploadError } from './readTable'
 import { problemMessage, validateTable, type MeasureInfo, type Observations, type Registry } from './validate'
 

@@ -1,6 +1,6 @@
 /**
  * Reads an uploaded file into a header and rows of cells: CSV (papaparse) or XLSX (exceljs).
- * Pure (no database, no Nitro), so the routes, the import job, the seed and the tests share it.
+ * Pure (no database, no Nitro; relative imports so tsx runs it too), so the routes, the import job, the seed and the tests share it.
  *
  * Row numbers follow what a person sees in a spreadsheet: the header is row 1, the first
  * data row is row 2. Completely empty lines are skipped but keep their numbers.
@@ -8,7 +8,7 @@
  */
 import ExcelJS from 'exceljs'
 import Papa from 'papaparse'
-import type { UploadProblem } from '#shared/schemas/uploads'
+import type { UploadProblem } from '../../../shared/schemas/uploads'
 
 export type Cell = string | number | Date | null
 

@@ -3,13 +3,13 @@
  * database as it was), then stores the release (file kept with its SHA-256) and queues
  * its import as a job. Also the preview the upload page shows before the mapping is set.
  */
-import { createHash } from 'node:crypto'
 import { and, eq, inArray } from 'drizzle-orm'
 import { sourceReleases } from '~~/db/schema'
 import { mappingSchema, type Mapping, type UploadProblem } from '#shared/schemas/uploads'
 import { parsePeriod } from '#shared/utils/periods'
 import type { Upload } from '../../utils/upload'
 import { findSource } from '../registry/sources'
+import { checksumOf } from './checksum'
 import { loadRegistry } from './importRelease'
 import { readTable, UploadError, type Cell, type Table } from './readTable'
 import { problemMessage, validateTable, type Validation } from './validate'
@@ -18,10 +18,6 @@ export const IMPORT_JOB = 'import-release'
 
 function refuse(statusCode: number, message: string, errors: UploadProblem[]): never {
   throw createError({ statusCode, message, data: { message, errors, issues: [] } })
-}
-
-export function checksumOf(file: Buffer): string {
-  return createHash('sha256').update(file).digest('hex')
 }
 
 function parseMapping(text: string | undefined): Mapping {

@@ -14,9 +14,9 @@
  * period where the file holds both; the rate is a measure of its own (created on import
  * when the registry lacks it, with the count's frequency).
  */
-import type { Mapping, RateRequest, UploadProblem } from '#shared/schemas/uploads'
-import type { MeasureFrequency } from '#shared/schemas/registry'
-import { formatPeriod, parsePeriod, PeriodError } from '#shared/utils/periods'
+import type { Mapping, RateRequest, UploadProblem } from '../../../shared/schemas/uploads'
+import type { MeasureFrequency } from '../../../shared/schemas/registry'
+import { formatPeriod, parsePeriod, PeriodError } from '../../../shared/utils/periods'
 import { delimiterName, likelyDelimiter, type Cell, type Table } from './readTable'
 
 export interface MeasureInfo { id: number, key: string, label: string, unit: string, frequency: MeasureFrequency }
