@@ -26,6 +26,7 @@ export const NAVIGATION: NavSection[] = [
     items: [
       { label: 'People & access', to: '/admin/users', roles: ['admin'] },
       { label: 'Mail outbox', to: '/admin/outbox', roles: ['admin'] },
+      { label: 'Audit log', to: '/admin/audit', roles: ['admin'] },
     ],
   },
 ]
