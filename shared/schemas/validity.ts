@@ -59,3 +59,13 @@ export interface ValidityEntry {
   updatedBy: string | null
   updatedAt: string | null
 }
+
+/** A threat being edited in the browser (assessment null until chosen). */
+export interface ThreatDraft {
+  threat: string
+  label: string
+  prompt: string
+  assessment: Assessment | null
+  note: string
+  evidence: Evidence[]
+}

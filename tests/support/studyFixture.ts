@@ -6,10 +6,9 @@
  *
  *   const f = await studyWithRuns()            // f.studyId, f.runs.did, f.runs.event, f.codes, f.csvRows
  * Options let a test put risky text (formula-like) into the question and a pool reason.
+ * Free of test-runner imports, so the API suite and the Playwright specs both use it.
  */
-import { expect } from 'vitest'
 import { as, type Client } from './http'
-import { runTag, uploadRelease, waitForJob } from './uploads'
 
 export interface StudyFixture {
   tag: string
@@ -33,11 +32,29 @@ export interface FixtureOptions {
 }
 
 function ok(res: { status: number, body: unknown }, expected: number, what: string) {
-  expect(res.status, `${what}: ${JSON.stringify(res.body).slice(0, 500)}`).toBe(expected)
+  if (res.status !== expected) throw new Error(`${what}: expected ${expected}, got ${res.status}: ${JSON.stringify(res.body).slice(0, 500)}`)
+}
+
+const tagOf = () => `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 5)}`.toUpperCase()
+
+async function importCsv(client: Client, sourceId: number, csv: string, mapping: unknown, label: string) {
+  const form = new FormData()
+  form.append('file', new Blob([Buffer.from(csv)]), 'roads-demo.csv')
+  form.append('mapping', JSON.stringify(mapping))
+  form.append('label', label)
+  const up = await client.request('POST', `/api/sources/${sourceId}/releases`, form)
+  ok(up, 202, 'upload')
+  for (const start = Date.now(); Date.now() - start < 30_000;) {
+    const job = await client.get(`/api/jobs/${up.body.jobId}`)
+    if (job.body?.state === 'done') return up.body.releaseId as number
+    if (job.body?.state === 'failed') throw new Error(`import failed: ${JSON.stringify(job.body)}`)
+    await new Promise(r => setTimeout(r, 150))
+  }
+  throw new Error('import job did not finish in 30 s')
 }
 
 export async function studyWithRuns(options: FixtureOptions = {}): Promise<StudyFixture> {
-  const tag = runTag()
+  const tag = tagOf()
   const [admin, analyst, reviewer] = await Promise.all([as('admin'), as('analyst'), as('reviewer')])
   const all = ['A', 'B', 'C', 'D', 'E', 'F', 'G'].map(l => `S${tag}-${l}`)
   const [treated, ...others] = all as [string, ...string[]]
@@ -65,10 +82,7 @@ export async function studyWithRuns(options: FixtureOptions = {}): Promise<Study
       lines.push(`${code},${year},${value},${income}`)
     }
   })
-  const up = await uploadRelease(analyst, source.body.id, `${lines.join('\n')}\n`, 'roads-demo.csv', { layout: 'long', jurisdiction: 'code', period: 'year', values: { deaths: outcome, income: covariate } }, '2026 demo edition')
-  ok(up, 202, 'upload')
-  const job = await waitForJob(analyst, up.body.jobId)
-  expect(job.state, JSON.stringify(job)).toBe('done')
+  const releaseId = await importCsv(analyst, source.body.id, `${lines.join('\n')}\n`, { layout: 'long', jurisdiction: 'code', period: 'year', values: { deaths: outcome, income: covariate } }, '2026 demo edition')
 
   const study = await analyst.post('/api/studies', {
     title: options.title ?? `Helmet rule ${tag}`,
@@ -90,5 +104,5 @@ export async function studyWithRuns(options: FixtureOptions = {}): Promise<Study
   ok(did, 201, 'did run')
   const event = await analyst.post(`/api/studies/${studyId}/runs`, { design: 'event_study', options: { eventWindow: { from: -3, to: 3 } } })
   ok(event, 201, 'event-study run')
-  return { tag, admin, analyst, reviewer, codes: { treated, comparison, excluded }, outcome, covariate, studyId, runs: { did: did.body, event: event.body }, csvRows, releaseId: up.body.releaseId }
+  return { tag, admin, analyst, reviewer, codes: { treated, comparison, excluded }, outcome, covariate, studyId, runs: { did: did.body, event: event.body }, csvRows, releaseId }
 }

@@ -16,6 +16,7 @@ import ExcelJS from 'exceljs'
 import type { EstimateResult } from '../../../shared/engine/result'
 import { allCautions } from '../../../shared/delivery/cautions'
 import { guardFormula } from '../../../shared/delivery/formulaGuard'
+import { DESIGN_LABELS } from '../../../shared/schemas/studies'
 import { ASSESSMENT_LABELS, THREATS, type Assessment } from '../../../shared/schemas/validity'
 
 export interface WorkbookPoolRow {
@@ -137,14 +138,7 @@ export const formatStart = (start: string | number | Record<string, string | num
 
 const iso = (d: Date | string | null) => (d == null ? null : new Date(d).toISOString())
 
-export const DESIGN_LABELS: Record<string, string> = {
-  pre_post: 'Pre/post comparison (no comparison group)',
-  its: 'Interrupted time series (segmented regression)',
-  did: 'Difference-in-differences',
-  event_study: 'Event study',
-  staggered: 'Staggered adoption',
-  synthetic: 'Weighted comparison unit',
-}
+const designLabel = (design: string) => (DESIGN_LABELS as Record<string, string>)[design] ?? design
 
 const VCOV_LABELS: Record<string, string> = {
   cluster: 'Cluster-robust by unit',
@@ -178,7 +172,7 @@ function summary(wb: ExcelJS.Workbook, input: WorkbookInput) {
     add('Pre-period', `${study.window.pre[0]} to ${study.window.pre[1]}`)
     add('Post-period', `${study.window.post[0]} to ${study.window.post[1]}`)
   }
-  add('Design', DESIGN_LABELS[run.design] ?? run.design)
+  add('Design', designLabel(run.design))
   add('Standard errors', VCOV_LABELS[r.vcov] ?? r.vcov)
   ws.addRow([])
   add('Effect term', r.effect.term)
