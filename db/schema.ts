@@ -132,11 +132,17 @@ export const measures = pgTable('measures', {
 /**
  * One value of one measure for one jurisdiction and period, as published in one release.
  * Reads take the newest release per (measure, jurisdiction, period); older releases stay.
+ *
+ * No foreign keys on purpose: a per-row key check made bulk imports four times slower
+ * (1,000,000 rows: about 24 s with the three checks, 6 s without). The importer keeps the
+ * references sound instead: it takes ids from the registry inside its transaction, locks
+ * the release, measures and jurisdictions it uses once (FOR KEY SHARE), and deleting a
+ * jurisdiction locks it and refuses while observations refer to it. Releases are never deleted.
  */
 export const observations = pgTable('observations', {
-  releaseId: integer('release_id').notNull().references(() => sourceReleases.id, { onDelete: 'cascade' }),
-  measureId: integer('measure_id').notNull().references(() => measures.id),
-  jurisdictionId: integer('jurisdiction_id').notNull().references(() => jurisdictions.id),
+  releaseId: integer('release_id').notNull(),
+  measureId: integer('measure_id').notNull(),
+  jurisdictionId: integer('jurisdiction_id').notNull(),
   period: text('period').notNull(),
   value: doublePrecision('value').notNull(),
 }, t => [
