@@ -54,7 +54,8 @@ export function eventStudyChart(points: readonly EventStudyPoint[]): ChartConfig
 /** A number for reading: fixed digits, a real minus sign, a dash for missing. */
 export function fmtNumber(v: number | null | undefined, digits = 3): string {
   if (v == null || !Number.isFinite(v)) return '–'
-  return v.toFixed(digits).replace(/^-/, '−')
+  const text = v.toFixed(digits)
+  return /^-0\.?0*$/.test(text) ? text.slice(1) : text.replace(/^-/, '−')
 }
 
 export function fmtP(p: number | null | undefined): string {

@@ -1,0 +1,102 @@
+/**
+ * Delivery as people do it: the analyst downloads the estimates workbook from the browser and
+ * opens the printable report; then the analyst requests review, the reviewer (a second user,
+ * signed in in a browser of their own) comments and approves, the study locks, and the
+ * analyst starts a new version.
+ */
+import ExcelJS from 'exceljs'
+import { expect, test } from '@playwright/test'
+import { signInAs, snap } from './support/auth'
+import { type StudyFixture, studyWithRuns } from '../tests/support/studyFixture'
+import { waitForMail } from '../tests/support/mail'
+
+let f: StudyFixture
+let title: string
+
+test.beforeAll(async () => {
+  f = await studyWithRuns({ question: 'Did the helmet rule lower road deaths in the treated county?' })
+  title = (await f.analyst.get(`/api/studies/${f.studyId}`)).body.title
+})
+
+test('the analyst exports the workbook from the browser', async ({ page }) => {
+  await signInAs(page, 'analyst')
+  await page.goto(`/studies/${f.studyId}/review`)
+  const row = page.getByTestId('runs-table').locator(`tr[data-run="${f.runs.did.id}"]`)
+  const [download] = await Promise.all([page.waitForEvent('download'), row.getByTestId('workbook-link').click()])
+  expect(download.suggestedFilename()).toMatch(/-v1-run\d+-estimates\.xlsx$/)
+  const wb = new ExcelJS.Workbook()
+  await wb.xlsx.readFile(await download.path())
+  expect(wb.worksheets.map(w => w.name)).toContain('Panel rows')
+  const summary = wb.getWorksheet('Summary')!
+  let estimate: unknown
+  summary.eachRow((r) => {
+    if (r.getCell(1).value === 'Effect estimate') estimate = r.getCell(2).value
+  })
+  expect(estimate).toBe(f.runs.did.result.effect.estimate)
+  await snap(page, 'delivery-runs-to-deliver')
+})
+
+test('the analyst opens the printable report', async ({ page }) => {
+  await signInAs(page, 'analyst')
+  await page.goto(`/studies/${f.studyId}/review`)
+  await page.getByTestId('runs-table').locator(`tr[data-run="${f.runs.event.id}"]`).getByTestId('open-report').click()
+  const report = page.getByTestId('report')
+  await expect(report.getByTestId('report-question')).toHaveText('Did the helmet rule lower road deaths in the treated county?')
+  await expect(report.getByTestId('effect-estimate')).toHaveText(f.runs.event.result.effect.estimate.toFixed(4).replace(/^-/, '−'))
+  await expect(report.getByTestId('cautions')).toContainText('observational estimates')
+  await expect(report.getByTestId('not-approved')).toBeVisible()
+  await expect(report.getByTestId('event-table').getByRole('row')).toHaveCount(f.runs.event.result.eventStudy.length + 1)
+  await expect(report.getByTestId('validity-table').getByRole('row')).toHaveCount(8)
+  await expect(report.locator('canvas')).toHaveCount(2)
+  const [csv] = await Promise.all([page.waitForEvent('download'), report.getByTestId('coefficients-csv').click()])
+  expect(csv.suggestedFilename()).toBe(`study${f.studyId}-run${f.runs.event.id}-coefficients.csv`)
+  const [png] = await Promise.all([page.waitForEvent('download'), report.getByTestId('chart-png').first().click()])
+  expect(png.suggestedFilename()).toMatch(/trends\.png$/)
+  await snap(page, 'delivery-report-screen')
+  await page.emulateMedia({ media: 'print' })
+  await expect(page.getByTestId('report-toolbar')).toBeHidden()
+  await expect(report.getByTestId('chart-png').first()).toBeHidden()
+  await snap(page, 'delivery-report-print')
+})
+
+test('request review as the analyst, approve as the reviewer, then start a new version', async ({ page, browser }) => {
+  await signInAs(page, 'analyst')
+  await page.goto(`/studies/${f.studyId}/review`)
+  await expect(page.getByTestId('study-status')).toHaveText('Draft')
+  const reviewerSelect = page.getByLabel('Reviewer', { exact: true })
+  const option = reviewerSelect.locator('option', { hasText: 'reviewer@counterpart.test' })
+  await reviewerSelect.selectOption((await option.getAttribute('value'))!)
+  await page.getByLabel('Note for the reviewer (optional)').fill('Ready for the budget memo.')
+  await page.getByTestId('request-review').click()
+  await expect(page.getByTestId('review-message')).toContainText('reviewer@counterpart.test has been e-mailed')
+  await expect(page.getByTestId('study-status')).toHaveText('In review')
+  await expect(page.getByTestId('approve')).toHaveCount(0)
+  const mail = await waitForMail(m => m.to === 'reviewer@counterpart.test' && m.subject === `Review requested: ${title}`)
+  const link = mail.text.split('\n').find(l => l.includes(`/studies/${f.studyId}/review`))!.trim()
+
+  const reviewerContext = await browser.newContext()
+  const rp = await reviewerContext.newPage()
+  await signInAs(rp, 'reviewer')
+  await rp.goto(new URL(link).pathname)
+  await expect(rp.getByTestId('study-status')).toHaveText('In review')
+  await rp.getByLabel('Add a comment').fill('Checked the pool and the leads; fine.')
+  await rp.getByTestId('send-comment').click()
+  await expect(rp.getByTestId('comment').last()).toContainText('Checked the pool and the leads; fine.')
+  await rp.getByTestId('approve').click()
+  await expect(rp.getByTestId('study-status')).toHaveText('Approved')
+  await expect(rp.getByTestId('review-message')).toContainText('analyst@counterpart.test has been e-mailed')
+  await snap(rp, 'delivery-reviewer-approved')
+  await reviewerContext.close()
+
+  await waitForMail(m => m.to === 'analyst@counterpart.test' && m.subject === `Approved: ${title}`)
+  await page.reload()
+  await expect(page.getByTestId('study-status')).toHaveText('Approved')
+  await page.goto(`/studies/${f.studyId}/validity`)
+  await expect(page.getByText('approved and locked')).toBeVisible()
+  await expect(page.getByTestId('save-validity')).toHaveCount(0)
+  await page.goto(`/studies/${f.studyId}/review`)
+  await page.getByTestId('new-version').click()
+  await expect(page).toHaveURL(/\/studies\/\d+$/)
+  expect(Number(page.url().split('/').pop())).not.toBe(f.studyId)
+  await snap(page, 'delivery-new-version')
+})
