@@ -10,7 +10,7 @@ export interface NavSection { title: string, items: NavItem[] }
 const everyone = ['admin', 'analyst', 'reviewer'] as const
 
 export const NAVIGATION: NavSection[] = [
-  { title: 'Work', items: [{ label: 'Overview', to: '/', roles: everyone }] },
+  { title: 'Work', items: [{ label: 'Overview', to: '/', roles: everyone }, { label: 'Studies', to: '/studies', roles: everyone }] },
   {
     title: 'Data',
     items: [

@@ -1,0 +1,27 @@
+/**
+ * Server data of one study through useFetch (keyed per study so the workspace's steps share
+ * one copy): the study itself, its candidates, trends and runs. Writes go through $fetch
+ * in the pages' handlers and then refresh what they changed.
+ */
+import type { MaybeRefOrGetter } from 'vue'
+
+export function useStudy(id: MaybeRefOrGetter<number>) {
+  return useFetch(() => `/api/studies/${toValue(id)}`, { key: `study-${toValue(id)}` })
+}
+
+export function useStudyCandidates(id: MaybeRefOrGetter<number>) {
+  return useFetch(() => `/api/studies/${toValue(id)}/candidates`, { key: `study-candidates-${toValue(id)}` })
+}
+
+export function useStudyTrends(id: MaybeRefOrGetter<number>) {
+  return useFetch(() => `/api/studies/${toValue(id)}/trends`, { key: `study-trends-${toValue(id)}`, server: false })
+}
+
+export function useStudyRuns(id: MaybeRefOrGetter<number>) {
+  return useFetch(() => `/api/studies/${toValue(id)}/runs`, { key: `study-runs-${toValue(id)}` })
+}
+
+/** The study list (status filter optional). */
+export function useStudies(status: MaybeRefOrGetter<string>) {
+  return useFetch('/api/studies', { query: computed(() => (toValue(status) ? { status: toValue(status) } : {})) })
+}
