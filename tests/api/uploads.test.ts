@@ -125,6 +125,15 @@ describe('good files', () => {
   })
 })
 
+describe('references', () => {
+  it('a jurisdiction with imported values cannot be deleted (the values stay readable)', async () => {
+    const res = await admin.delete(`/api/jurisdictions/${A}`)
+    expect(res.status).toBe(409)
+    expect(res.body.message).toMatch(/observations refer to it/)
+    expect((await panel(reviewer, `measure=${filings}&units=${A}`)).rows.length).toBeGreaterThan(0)
+  })
+})
+
 describe('bad files each give their clear error and leave the database exactly as before', () => {
   const header = 'code,month,filings,households\n'
   const cases: [string, () => { file: Buffer | string, name: string, map?: unknown }, number, RegExp, { row: number | null, column: string | null } | null][] = [

@@ -92,6 +92,8 @@ export async function updateJurisdiction(db: Db, userId: number, code: string, p
 export async function deleteJurisdiction(db: Db, userId: number, code: string) {
   return db.transaction(async (tx) => {
     const { id, ...before } = await findJurisdiction(tx, code)
+    // Waits for an import holding this row (observations carry no foreign key; see db/schema.ts).
+    await tx.execute(sql`select id from jurisdictions where id = ${id} for update`)
     const [obs] = await tx.select({ n: sql<number>`count(*)::int` }).from(observations).where(eq(observations.jurisdictionId, id))
     const [events] = await tx.select({ n: sql<number>`count(*)::int` }).from(policyEvents).where(eq(policyEvents.jurisdictionId, id))
     if (obs!.n || events!.n) {

@@ -4,7 +4,7 @@
  * so it takes a pg.Pool and no Nitro helpers.
  *
  * Rows go in as large multi-row batches (INSERT ... SELECT FROM unnest of arrays), sorted
- * by the panel-read index order. Any failure (bad data found on re-check, a lost
+ * by the panel-read index order; the rows they refer to are locked once, not per row. Any failure (bad data found on re-check, a lost
  * connection, a killed process) rolls the transaction back: the release is marked
  * failed with its problems and holds no observations.
  */
@@ -81,6 +81,21 @@ export async function insertObservations(client: Queryable, releaseId: number, o
   }
 }
 
+/**
+ * observations has no per-row foreign keys (db/schema.ts): lock every row referred to once,
+ * as the key checks would, so none can be deleted until this import commits or rolls back.
+ * A vanished jurisdiction or measure fails the import.
+ */
+async function lockReferences(client: Queryable, releaseId: number, measureIds: number[], obs: Observations): Promise<void> {
+  const jurisdictionIds = [...new Set(obs.jurisdictionIds.subarray(0, obs.length))]
+  const release = await client.query('SELECT id FROM source_releases WHERE id = $1 FOR KEY SHARE', [releaseId])
+  const measures = await client.query('SELECT id FROM measures WHERE id = ANY($1::int[]) FOR KEY SHARE', [measureIds])
+  const places = await client.query('SELECT id FROM jurisdictions WHERE id = ANY($1::int[]) FOR KEY SHARE', [jurisdictionIds])
+  if (release.rowCount !== 1 || measures.rowCount !== new Set(measureIds).size || places.rowCount !== jurisdictionIds.length) {
+    throw new ImportFailure('A jurisdiction or measure this file refers to was deleted while it was being imported; nothing was imported. Upload it again.', [])
+  }
+}
+
 interface ReleaseRow {
   id: number
   source_id: number
@@ -128,6 +143,7 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
         [release.created_by, row!.id, JSON.stringify({ ...row, derivedFrom: `release ${releaseId}` })])
     }
     const measureIds = checked.observations.measureKeys.map(k => registry.measures.get(k)!.id)
+    await lockReferences(client, releaseId, measureIds, checked.observations)
     const total = checked.observations.length
     await insertObservations(client, releaseId, checked.observations, measureIds, done =>
       onProgress(0.2 + 0.75 * (done / total), `Imported ${done.toLocaleString('en')} of ${total.toLocaleString('en')} values`))
