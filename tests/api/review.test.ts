@@ -35,6 +35,14 @@ describe('request, approve, lock, new version', () => {
     expect(noAction.status).toBe(400)
   })
 
+  it('refuses to send a study without runs', async () => {
+    const empty = await f.analyst.post('/api/studies', { title: `Not yet estimated ${f.tag}`, outcome: f.outcome, treated: [f.codes.treated], start: '2007' })
+    expect(empty.status).toBe(201)
+    const res = await f.analyst.post(`/api/studies/${empty.body.id}/review`, { action: 'request', reviewerId })
+    expect(res.status).toBe(409)
+    expect(res.body.message).toContain('run an estimate')
+  })
+
   it('the owner requests review; the reviewer is mailed a link', async () => {
     const res = await f.analyst.post(`/api/studies/${f.studyId}/review`, { action: 'request', reviewerId, note: 'Please check the pool.' })
     expect(res.status, JSON.stringify(res.body)).toBe(200)

@@ -3,7 +3,7 @@
  * row before and after; mails go out after the transaction commits.
  */
 import { and, asc, eq, inArray } from 'drizzle-orm'
-import { auditLog, comments, studies, studyPoolDecisions, users, validityNotes } from '~~/db/schema'
+import { auditLog, comments, studies, studyPoolDecisions, studyRuns, users, validityNotes } from '~~/db/schema'
 import type { ReviewAction } from '#shared/schemas/review'
 import type { SessionUser } from '../../utils/auth'
 import type { Study } from '../../utils/studyAccess'
@@ -23,6 +23,8 @@ export async function applyReview(user: SessionUser, studyId: number, body: Revi
 
     let reviewerId = study.reviewerId
     if (body.action === 'request') {
+      const [run] = await tx.select({ id: studyRuns.id }).from(studyRuns).where(eq(studyRuns.studyId, studyId)).limit(1)
+      if (!run) throw createError({ statusCode: 409, message: 'There is nothing to review yet: run an estimate on the Estimates step first.' })
       const [reviewer] = await tx.select({ id: users.id, role: users.role, active: users.active }).from(users).where(eq(users.id, body.reviewerId))
       if (!reviewer || reviewer.role !== 'reviewer' || !reviewer.active) {
         badRequest('Choose an active reviewer for this study.', [{ path: 'reviewerId', message: 'Not an active reviewer.' }])
