@@ -33,10 +33,15 @@ function goodCsv(scale = 1) {
 
 beforeAll(async () => {
   ;[admin, analyst, reviewer] = await Promise.all([as('admin'), as('analyst'), as('reviewer')])
-  for (const code of [A, B, C]) expect((await admin.post('/api/jurisdictions', { code, name: `Town ${code}`, kind: 'municipality' })).status).toBe(201)
-  expect((await admin.post('/api/measures', { key: filings, label: 'Eviction filings', unit: 'filings', kind: 'outcome', frequency: 'month' })).status).toBe(201)
-  expect((await admin.post('/api/measures', { key: households, label: 'Renter households', unit: 'households', kind: 'denominator', frequency: 'month' })).status).toBe(201)
-  const s = await admin.post('/api/sources', { name: `Court statistics ${tag}`, publisher: 'Court office' })
+  const created = async (path: string, body: object) => {
+    const res = await admin.post(path, body)
+    expect(res.status, `${path}: ${JSON.stringify(res.body)}`).toBe(201)
+    return res
+  }
+  for (const code of [A, B, C]) await created('/api/jurisdictions', { code, name: `Town ${code}`, kind: 'municipality' })
+  await created('/api/measures', { key: filings, label: 'Eviction filings', unit: 'filings', kind: 'outcome', frequency: 'month' })
+  await created('/api/measures', { key: households, label: 'Renter households', unit: 'households', kind: 'denominator', frequency: 'month' })
+  const s = await created('/api/sources', { name: `Court statistics ${tag}`, publisher: 'Court office' })
   sourceId = s.body.id
 })
 afterAll(closePool)
