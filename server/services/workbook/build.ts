@@ -16,7 +16,7 @@ import ExcelJS from 'exceljs'
 import type { EstimateResult } from '../../../shared/engine/result'
 import { allCautions } from '../../../shared/delivery/cautions'
 import { guardFormula } from '../../../shared/delivery/formulaGuard'
-import { DESIGN_LABELS } from '../../../shared/schemas/studies'
+import { designLabel } from '../../../shared/delivery/labels'
 import { ASSESSMENT_LABELS, THREATS, type Assessment } from '../../../shared/schemas/validity'
 
 export interface WorkbookPoolRow {
@@ -138,7 +138,6 @@ export const formatStart = (start: string | number | Record<string, string | num
 
 const iso = (d: Date | string | null) => (d == null ? null : new Date(d).toISOString())
 
-const designLabel = (design: string) => (DESIGN_LABELS as Record<string, string>)[design] ?? design
 
 const VCOV_LABELS: Record<string, string> = {
   cluster: 'Cluster-robust by unit',
