@@ -13,3 +13,9 @@ export function fmtPv(p: number | null | undefined): string {
 export function fmtPct(v: number | null | undefined): string {
   return v === null || v === undefined ? '–' : `${Math.round(v * 100)}%`
 }
+
+/** "p = 0.042" or "p < 0.001". */
+export function fmtPText(p: number | null | undefined): string {
+  const s = fmtPv(p)
+  return s.startsWith('<') ? `p ${s}` : `p = ${s}`
+}

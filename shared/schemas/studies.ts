@@ -5,6 +5,7 @@
  */
 import { z } from 'zod'
 import { availableDesigns, eventWindowSchema, itsOptionsSchema, smallSampleChoices } from '../engine/spec'
+import type { DonorExclusion, DonorScoreRow } from '../engine/result'
 import { comparePeriods } from '../utils/periods'
 import { jurisdictionCodeSchema, measureKeySchema, periodSchema } from './registry'
 
@@ -147,3 +148,18 @@ export const ESTIMATE_CAUTIONS = [
   'Small counts may need suppression or rounding under your agency\'s disclosure rules before anything is published.',
   'Follow your agency\'s evaluation standards, and have the study reviewed by a qualified person before a decision rests on it.',
 ] as const
+
+/** A donor candidate as the Pool step shows it: the engine's scores, flags and the decision. */
+export interface PoolRow extends Omit<DonorScoreRow, 'unit' | 'exclusions'> {
+  jurisdiction: string
+  name: string
+  kind: string
+  region: string | null
+  exclusions: DonorExclusion[]
+  flagged: boolean
+  included: boolean
+  /** The analyst's saved decision, if any (otherwise `included` follows the suggestion). */
+  decided: boolean
+  reason: string | null
+  suggested: boolean
+}

@@ -140,8 +140,14 @@ describe('the demo study', () => {
     expect(treated.status).toBe(400)
     const candidates = (await analyst.get(`/api/studies/${id}/candidates`)).body.rows as { jurisdiction: string, included: boolean }[]
     const donor = candidates.filter(r => r.included).at(-1)!.jurisdiction
+    const started = Date.now()
     const res = await analyst.put(`/api/studies/${id}/pool`, { decisions: [{ jurisdiction: donor, included: false, reason: 'a one-off plant closure in 2016' }] })
+    const ms = Date.now() - started
     expect(res.status, JSON.stringify(res.body)).toBe(200)
+    // the reply is re-scored and carries a quick did estimate on the new pool
+    expect(res.body.preview).toMatchObject({ design: 'did', effect: { estimate: expect.any(Number) }, nClusters: 10, error: null })
+    console.log(`pool change on the demo (save, re-score, re-estimate): ${ms} ms`)
+    expect(ms).toBeLessThan(2000)
     expect(res.body.rows.find((r: { jurisdiction: string }) => r.jurisdiction === donor)).toMatchObject({ included: false, decided: true, reason: 'a one-off plant closure in 2016' })
     const again = await reviewer.get(`/api/studies/${id}/candidates`)
     expect(again.body.rows.find((r: { jurisdiction: string }) => r.jurisdiction === donor)).toMatchObject({ included: false, reason: 'a one-off plant closure in 2016' })

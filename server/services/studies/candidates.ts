@@ -12,29 +12,17 @@
  */
 import { eq, inArray, or } from 'drizzle-orm'
 import { jurisdictionNeighbours, jurisdictions, policyEvents, studyPoolDecisions } from '~~/db/schema'
-import { scoreDonors, isEngineError, type DonorScoreRow, type DonorScores } from '~~/server/engine'
+import { scoreDonors, isEngineError, type DonorScores } from '~~/server/engine'
 import { comparePeriods, parsePeriod } from '#shared/utils/periods'
+import type { PoolRow } from '#shared/schemas/studies'
 import type { StudyRow } from './fingerprint'
 import { engineRows, readStudyRows, OUTCOME, type RowSource, type StudyRows } from './rows'
 import { studySpecBase, startsOf } from './spec'
 import type { StudyRecord } from './runData'
 
-export interface Exclusion { reason: string, detail: string }
+export type Exclusion = PoolRow['exclusions'][number]
 
-/** A candidate's engine scores (shared/engine/result.ts) with its flags and pool decision. */
-export interface PoolRow extends Omit<DonorScoreRow, 'unit' | 'exclusions'> {
-  jurisdiction: string
-  name: string
-  kind: string
-  region: string | null
-  exclusions: Exclusion[]
-  flagged: boolean
-  included: boolean
-  /** The analyst's saved decision, if any (otherwise `included` follows the suggestion). */
-  decided: boolean
-  reason: string | null
-  suggested: boolean
-}
+export type { PoolRow }
 
 export interface BalanceRow { measure: string, label: string, treated: number | null, pool: number | null, difference: number | null, standardised: number | null }
 
@@ -71,8 +59,37 @@ const safeCompare = (a: string, b: string) => {
   }
 }
 
+/**
+ * Recently built contexts, so a pool change re-scores without reading the panel again. The
+ * key holds every study field the context depends on and a digest of the registry tables it
+ * reads (imported releases, policy events, neighbour links, jurisdictions): any change there
+ * builds a fresh context. Runs never use this: they read their own rows.
+ */
+const contexts = new Map<string, { at: number, ctx: CandidateContext }>()
+const CONTEXT_TTL_MS = 5 * 60_000
+
+async function contextKey(study: StudyRecord, maxMissing: number): Promise<string> {
+  const { rows: [digest] } = await usePool().query<{ d: string }>(`SELECT concat_ws(':',
+    (SELECT count(*) || '-' || coalesce(sum(id), 0) FROM source_releases WHERE status = 'done'),
+    (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || period || kind || policy)), 0) FROM policy_events),
+    (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || '-' || neighbour_id)), 0) FROM jurisdiction_neighbours),
+    (SELECT count(*) || '-' || coalesce(sum(hashtext(code || name || kind || coalesce(region, ''))), 0) FROM jurisdictions)) AS d`)
+  const { outcome, covariates, denominator, transform, treated, start, window, interventions } = study
+  return JSON.stringify([study.id, outcome, covariates, denominator, transform, treated, start, window, interventions, maxMissing, digest!.d])
+}
+
 /** Reads the rows, scores every candidate and finds the flags (no decisions yet). */
 export async function candidateContext(study: StudyRecord, maxMissing = 0.2): Promise<CandidateContext> {
+  const key = await contextKey(study, maxMissing)
+  const hit = contexts.get(key)
+  if (hit && Date.now() - hit.at < CONTEXT_TTL_MS) return { ...hit.ctx, study }
+  const ctx = await buildCandidateContext(study, maxMissing)
+  for (const [k, v] of contexts) if (Date.now() - v.at >= CONTEXT_TTL_MS || contexts.size > 30) contexts.delete(k)
+  contexts.set(key, { at: Date.now(), ctx })
+  return ctx
+}
+
+async function buildCandidateContext(study: StudyRecord, maxMissing: number): Promise<CandidateContext> {
   const source = studySource(study)
   const data = await readStudyRows(source)
   const units = [...new Set(data.rows.map(r => r.jurisdiction))]

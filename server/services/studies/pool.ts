@@ -2,14 +2,17 @@
  * Saving pool decisions: each names a candidate and whether it is in the pool. Including a
  * flagged candidate overrides its flags and needs a reason (400 otherwise). Decisions are
  * upserted, audit-logged with the decisions before and after, and the re-scored table is
- * returned.
+ * returned with a preview of the did estimate on the new pool.
  */
 import { eq, inArray, sql } from 'drizzle-orm'
 import { jurisdictions, studies, studyPoolDecisions } from '~~/db/schema'
 import type { z } from 'zod'
 import type { poolPutSchema } from '#shared/schemas/studies'
 import type { SessionUser } from '../../utils/auth'
-import { assemblePool, candidateContext, poolDecisions } from './candidates'
+import { estimate, isEngineError } from '~~/server/engine'
+import { assemblePool, candidateContext, poolDecisions, type CandidateContext } from './candidates'
+import { engineRows } from './rows'
+import { buildRunSpec } from './spec'
 import type { StudyRecord } from './runData'
 
 export async function savePool(study: StudyRecord, user: SessionUser, body: z.output<typeof poolPutSchema>, k = 10) {
@@ -43,5 +46,25 @@ export async function savePool(study: StudyRecord, user: SessionUser, body: z.ou
       after: body.decisions,
     })
   })
-  return assemblePool(ctx, await poolDecisions(study.id), k)
+  const pool = assemblePool(ctx, await poolDecisions(study.id), k)
+  return { ...pool, preview: previewEstimate(ctx, pool.rows.filter(r => r.included).map(r => r.jurisdiction)) }
+}
+
+/**
+ * A quick difference-in-differences on the rows already read, so the analyst sees at once
+ * how the pool changes the estimate. Not stored: a run on the Estimates step is the record.
+ */
+export function previewEstimate(ctx: CandidateContext, pool: string[]) {
+  if (!pool.length) return { design: 'did' as const, effect: null, nClusters: null, warnings: [], error: 'The pool is empty.' }
+  const keep = new Set([...ctx.study.treated, ...pool])
+  const rows = ctx.data.rows.filter(r => keep.has(r.jurisdiction))
+  const periods = [...new Set(rows.map(r => r.period))].sort()
+  try {
+    const result = estimate({ rows: engineRows(rows) }, buildRunSpec(ctx.study, 'did', {}, pool, periods))
+    return { design: 'did' as const, effect: result.effect, nClusters: result.nClusters, warnings: result.warnings, error: null }
+  }
+  catch (e) {
+    if (!isEngineError(e)) throw e
+    return { design: 'did' as const, effect: null, nClusters: null, warnings: [], error: e.message }
+  }
 }

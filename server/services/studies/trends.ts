@@ -31,20 +31,23 @@ export function seasonalShare(periods: string[], values: (number | null)[], seas
   return explained / total
 }
 
+/** "< 0.001" or "= 0.042", to follow a "p". */
+const fmtP3Eq = (p: number) => (p < 0.001 ? '< 0.001' : `= ${p.toFixed(3)}`)
+
 export function readLeadTest(result: EstimateResult | null) {
   const wald = result?.preTrend?.wald ?? null
   const slope = result?.preTrend?.slopeDiff ?? null
   const lines: string[] = []
   if (wald) {
     lines.push(wald.p < 0.05
-      ? `The lead coefficients are jointly different from zero (F = ${wald.F.toFixed(2)}, p = ${wald.p.toFixed(3)}): before the policy the treated unit already moved differently from the pool. The parallel-trends assumption is in doubt; revisit the pool or the design.`
-      : `The lead coefficients are not jointly different from zero (F = ${wald.F.toFixed(2)}, p = ${wald.p.toFixed(3)}). This is consistent with parallel pre-trends, but it does not prove them: a test with few periods or clusters has little power.`)
+      ? `The lead coefficients are jointly different from zero (F = ${wald.F.toFixed(2)}, p ${fmtP3Eq(wald.p)}): before the policy the treated unit already moved differently from the pool. The parallel-trends assumption is in doubt; revisit the pool or the design.`
+      : `The lead coefficients are not jointly different from zero (F = ${wald.F.toFixed(2)}, p ${fmtP3Eq(wald.p)}). This is consistent with parallel pre-trends, but it does not prove them: a test with few periods or clusters has little power.`)
   }
   else lines.push('There are no lead coefficients to test (the event window has no pre-periods besides the reference).')
   if (slope) {
     lines.push(slope.p < 0.05
-      ? `Before the policy the treated series rose ${slope.estimate > 0 ? 'faster' : 'slower'} than the pool by ${Math.abs(slope.estimate).toPrecision(3)} per period (p = ${slope.p.toFixed(3)}): the trends diverge.`
-      : `The pre-period slopes differ by ${slope.estimate.toPrecision(3)} per period (p = ${slope.p.toFixed(3)}), not a clear divergence.`)
+      ? `Before the policy the treated series' trend ran ${Math.abs(slope.estimate).toPrecision(3)} per period ${slope.estimate > 0 ? 'above' : 'below'} the pool's (p ${fmtP3Eq(slope.p)}): the trends diverge, and a difference-in-differences would count that divergence as effect.`
+      : `The pre-period slopes differ by ${slope.estimate.toPrecision(3)} per period (p ${fmtP3Eq(slope.p)}), not a clear divergence.`)
   }
   return { wald, slopeDiff: slope, reading: lines }
 }

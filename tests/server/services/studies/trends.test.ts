@@ -1,0 +1,43 @@
+/** Trend helpers: the seasonality share behind the warning, and the plain-language lead-test reading. */
+import { describe, expect, it } from 'vitest'
+import { readLeadTest, seasonalShare } from '../../../../server/services/studies/trends'
+
+const months = Array.from({ length: 48 }, (_, i) => `${2020 + Math.floor(i / 12)}-${String((i % 12) + 1).padStart(2, '0')}`)
+
+describe('seasonalShare', () => {
+  it('is near 1 for a purely seasonal series around a trend, near 0 without seasons', () => {
+    const seasonal = months.map((_, i) => 10 + 0.1 * i + Math.sin((2 * Math.PI * (i % 12)) / 12))
+    expect(seasonalShare(months, seasonal, 'month')).toBeGreaterThan(0.9)
+    let seed = 7
+    const noise = () => ((seed = (seed * 16807) % 2147483647) / 2147483647 - 0.5)
+    const flat = months.map((_, i) => 10 + 0.1 * i + noise())
+    expect(seasonalShare(months, flat, 'month')!).toBeLessThan(0.5)
+  })
+
+  it('needs two years of values', () => {
+    expect(seasonalShare(months.slice(0, 20), months.slice(0, 20).map((_, i) => i), 'month')).toBeNull()
+  })
+})
+
+describe('readLeadTest', () => {
+  const wald = { terms: ['rel_-3', 'rel_-2'], chi2: 1, pChi2: 0.6, F: 0.5, df1: 2, df2: 20, p: 0.61 }
+  const slopeDiff = { estimate: -0.02, se: 0.005, df: 20, p: 0.0004, nObs: 100 }
+
+  it('reads a quiet lead test as consistent with, not proof of, parallel trends', () => {
+    const r = readLeadTest({ preTrend: { wald, slopeDiff: { ...slopeDiff, p: 0.4 } } } as never)
+    expect(r.reading[0]).toContain('not jointly different from zero')
+    expect(r.reading[0]).toContain('does not prove')
+    expect(r.reading[1]).toContain('not a clear divergence')
+  })
+
+  it('reads a failed test and a diverging slope as a warning', () => {
+    const r = readLeadTest({ preTrend: { wald: { ...wald, p: 0.001, F: 9 }, slopeDiff } } as never)
+    expect(r.reading[0]).toContain('in doubt')
+    expect(r.reading[1]).toContain('below the pool')
+    expect(r.reading[1]).toContain('p < 0.001')
+  })
+
+  it('says when there is nothing to test', () => {
+    expect(readLeadTest(null).reading[0]).toContain('no lead coefficients')
+  })
+})
