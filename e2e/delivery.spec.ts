@@ -4,6 +4,7 @@
  * signed in in a browser of their own) comments and approves, the study locks, and the
  * analyst starts a new version.
  */
+import { readFile } from 'node:fs/promises'
 import ExcelJS from 'exceljs'
 import { expect, test } from '@playwright/test'
 import { signInAs, snap } from './support/auth'
@@ -50,6 +51,11 @@ test('the analyst opens the printable report', async ({ page }) => {
   await expect(report.locator('canvas')).toHaveCount(2)
   const [csv] = await Promise.all([page.waitForEvent('download'), report.getByTestId('coefficients-csv').click()])
   expect(csv.suggestedFilename()).toBe(`study${f.studyId}-run${f.runs.event.id}-coefficients.csv`)
+  const [eventCsv] = await Promise.all([page.waitForEvent('download'), report.getByTestId('event-csv').click()])
+  const lines = (await readFile(await eventCsv.path(), 'utf8')).trim().split('\r\n')
+  expect(lines[0]).toBe('Periods from start,Estimate,Standard error,95% low,95% high,Reference period,Binned end point')
+  expect(lines).toHaveLength(f.runs.event.result.eventStudy.length + 1)
+  expect(Number(lines[1]!.split(',')[1])).toBe(f.runs.event.result.eventStudy[0].estimate)
   const [png] = await Promise.all([page.waitForEvent('download'), report.getByTestId('chart-png').first().click()])
   expect(png.suggestedFilename()).toMatch(/trends\.png$/)
   await snap(page, 'delivery-report-screen')
