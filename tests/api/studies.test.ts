@@ -228,4 +228,20 @@ describe('the demo study', () => {
     expect(unknown.status).toBe(400)
     expect(unknown.body.message).toContain('treated')
   })
+
+  it('an admin may change any study; an approved study refuses every change with 409', async () => {
+    const renamed = await admin.patch(`/api/studies/${id}`, { title: `${demoStudy.title} (admin)` })
+    expect(renamed.status).toBe(200)
+    await sql(`UPDATE studies SET status = 'approved' WHERE id = $1`, [id])
+    try {
+      expect((await analyst.patch(`/api/studies/${id}`, { title: 'after approval' })).status).toBe(409)
+      expect((await analyst.put(`/api/studies/${id}/pool`, { decisions: [{ jurisdiction: 'VM-LU-01', included: false }] })).status).toBe(409)
+      expect((await admin.post(`/api/studies/${id}/runs`, { design: 'did' })).status).toBe(409)
+      expect((await analyst.get(`/api/studies/${id}`)).body).toMatchObject({ locked: true, canEdit: false })
+      expect((await reviewer.get(`/api/studies/${id}/runs`)).status).toBe(200)
+    }
+    finally {
+      await sql(`UPDATE studies SET status = 'draft' WHERE id = $1`, [id])
+    }
+  })
 })
