@@ -6,8 +6,8 @@
  * Served by the index observations_panel_read (measure, jurisdiction, period, release).
  */
 import type pg from 'pg'
-import { parsePeriod } from '#shared/utils/periods'
-import type { PanelQuery, PanelResponse, PanelRow } from '#shared/schemas/uploads'
+import { parsePeriod } from '../../shared/utils/periods'
+import type { PanelQuery, PanelResponse, PanelRow } from '../../shared/schemas/uploads'
 
 export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): Promise<PanelResponse> {
   const { rows: [measure] } = await pool.query<{ id: number, key: string, label: string, unit: string, frequency: string }>(
@@ -22,7 +22,6 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
 
   const params: unknown[] = [measure.id]
   const where: string[] = ['o.measure_id = $1']
-  const releaseWhere: string[] = [`r.status = 'done'`]
   if (q.units.length) {
     const { rows } = await pool.query<{ id: number, code: string }>('SELECT id, code FROM jurisdictions WHERE code = ANY($1)', [q.units])
     const known = new Set(rows.map(r => r.code))
@@ -40,33 +39,53 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
     params.push(q.to)
     where.push(`o.period <= $${params.length}`)
   }
+  // Observations exist only for imported releases (an import commits its rows and its
+  // "done" together), so the default read needs no look at source_releases.
   if (q.release.length) {
     params.push(q.release)
-    releaseWhere.push(`r.id = ANY($${params.length}::int[])`)
+    where.push(`o.release_id = ANY($${params.length}::int[])`)
   }
   if (q.asOf) {
     params.push(q.asOf)
     // At the millisecond: an importedAt copied from a JSON reply includes that release.
-    releaseWhere.push(`date_trunc('milliseconds', r.imported_at) <= $${params.length}::timestamptz`)
+    where.push(`o.release_id IN (SELECT id FROM source_releases WHERE status = 'done' AND date_trunc('milliseconds', imported_at) <= $${params.length}::timestamptz)`)
   }
-  const { rows } = await pool.query<{ code: string, period: string, value: number, release_id: number }>({
-    text: `SELECT j.code, c.period, c.value, c.release_id FROM (
-             SELECT DISTINCT ON (o.jurisdiction_id, o.period) o.jurisdiction_id, o.period, o.value, o.release_id
-             FROM observations o JOIN source_releases r ON r.id = o.release_id AND ${releaseWhere.join(' AND ')}
-             WHERE ${where.join(' AND ')}
-             ORDER BY o.jurisdiction_id, o.period, o.release_id DESC
-           ) c JOIN jurisdictions j ON j.id = c.jurisdiction_id
-           ORDER BY j.code, c.period`,
-    values: params,
-  })
-  const used = [...new Set(rows.map(r => r.release_id))]
+  // Descending on every key: a backward scan of observations_panel_read delivers each
+  // cell's newest release first, so DISTINCT ON needs no sort.
+  const client = await pool.connect()
+  let rows: [string, string, number, number][]
+  try {
+    await client.query('BEGIN READ ONLY')
+    // Enough sort memory to order a few million cells without spilling to disk.
+    await client.query(`SET LOCAL work_mem = '128MB'`)
+    const result = await client.query<[string, string, number, number]>({
+      text: `SELECT j.code, c.period, c.value, c.release_id FROM (
+               SELECT DISTINCT ON (o.jurisdiction_id, o.period) o.jurisdiction_id, o.period, o.value, o.release_id
+               FROM observations o
+               WHERE ${where.join(' AND ')}
+               ORDER BY o.jurisdiction_id DESC, o.period DESC, o.release_id DESC
+             ) c JOIN jurisdictions j ON j.id = c.jurisdiction_id
+             ORDER BY j.code, c.period`,
+      values: params,
+      rowMode: 'array',
+    })
+    rows = result.rows
+    await client.query('COMMIT')
+  }
+  finally {
+    client.release()
+  }
+  const used = [...new Set(rows.map(r => r[3]))]
   const { rows: releases } = used.length
     ? await pool.query<{ id: number, source: string, label: string | null, imported_at: Date | null }>(
       `SELECT r.id, s.name AS source, r.label, r.imported_at FROM source_releases r JOIN sources s ON s.id = r.source_id
        WHERE r.id = ANY($1::int[]) ORDER BY r.id`, [used])
     : { rows: [] }
   const out: PanelRow[] = new Array(rows.length)
-  for (let i = 0; i < rows.length; i++) out[i] = { jurisdiction: rows[i]!.code, period: rows[i]!.period, value: rows[i]!.value }
+  for (let i = 0; i < rows.length; i++) {
+    const r = rows[i]!
+    out[i] = { jurisdiction: r[0], period: r[1], value: r[2] }
+  }
   return {
     measure: measure.key,
     label: measure.label,
