@@ -116,6 +116,8 @@ test('request review as the analyst, approve as the reviewer, then start a new v
   await waitForMail(m => m.to === 'analyst@counterpart.test' && m.subject === `Approved: ${title}`)
   await page.reload()
   await expect(page.getByTestId('study-status')).toHaveText('Approved')
+  await page.goto(`/studies/${f.studyId}/runs/${f.runs.did.id}/report`)
+  await expect(page.getByTestId('approved-by')).toContainText('reviewer@counterpart.test')
   await page.goto(`/studies/${f.studyId}/validity`)
   await expect(page.getByText('approved and locked')).toBeVisible()
   await expect(page.getByTestId('save-validity')).toHaveCount(0)

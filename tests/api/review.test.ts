@@ -4,6 +4,7 @@
  * edit is refused), a new version from the locked study; return with a note; and the roles:
  * only reviewers approve or return, an analyst can never approve, not even their own study.
  */
+import ExcelJS from 'exceljs'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { DEMO } from '../support/http'
 import { closePool, sql } from '../support/db'
@@ -102,8 +103,16 @@ describe('request, approve, lock, new version', () => {
     const [row] = await sql('SELECT title, status FROM studies WHERE id = $1', [id])
     expect(row).toMatchObject({ title, status: 'approved' })
     expect((await sql('SELECT count(*)::int AS n FROM study_runs WHERE study_id = $1', [id]))[0].n).toBe(2)
-    // reading and exporting still work
-    expect((await f.reviewer.raw(`/api/studies/${id}/runs/${f.runs.did.id}/workbook`)).status).toBe(200)
+    // reading and exporting still work, and the workbook says who approved it
+    const res = await f.reviewer.raw(`/api/studies/${id}/runs/${f.runs.did.id}/workbook`)
+    expect(res.status).toBe(200)
+    const wb = new ExcelJS.Workbook()
+    await wb.xlsx.load(await res.arrayBuffer())
+    let review = ''
+    wb.getWorksheet('Summary')!.eachRow((r) => {
+      if (r.getCell(1).value === 'Review') review = String(r.getCell(2).value)
+    })
+    expect(review).toMatch(new RegExp(`^Approved by .*\\(${DEMO.reviewer}\\) on \\d{4}-\\d{2}-\\d{2}T.*; locked$`))
   })
 
   it('a new version starts from the locked study as an editable draft', async () => {

@@ -73,6 +73,8 @@ export interface WorkbookInput {
     covariates: string[]
     status: string
     version: number
+    /** Who approved the study and when (null until approved). */
+    approval?: { by: string, at: Date | string } | null
   }
   run: {
     id: number
@@ -162,6 +164,7 @@ function summary(wb: ExcelJS.Workbook, input: WorkbookInput) {
   }
   add('Question', study.question ?? '')
   add('Study', `#${study.id}, version ${study.version} (${study.status.replace('_', ' ')})`)
+  add('Review', study.approval ? `Approved by ${study.approval.by} on ${iso(study.approval.at)}; locked` : 'Not approved: these figures may still change')
   add('Run', `#${run.id}`)
   add('Outcome', study.outcomeLabel ? `${study.outcomeLabel} (${study.outcome})` : study.outcome)
   add('Transform', study.transform)

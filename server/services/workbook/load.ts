@@ -3,8 +3,8 @@
  * again from the releases it used and checked against its fingerprint), the pool as it
  * stood, the study's validity record, the releases with their checksums, who ran it.
  */
-import { eq, inArray } from 'drizzle-orm'
-import { measures, sourceReleases, sources, users, validityNotes } from '~~/db/schema'
+import { and, desc, eq, inArray } from 'drizzle-orm'
+import { auditLog, measures, sourceReleases, sources, users, validityNotes } from '~~/db/schema'
 import type { EstimateResult } from '#shared/engine/result'
 import pkg from '~~/package.json'
 import type { SessionUser } from '../../utils/auth'
@@ -17,7 +17,7 @@ export async function workbookInput(studyId: number, runId: number, user: Sessio
   if (run.studyId !== studyId) throw createError({ statusCode: 404, message: `Study ${studyId} has no run ${runId}.` })
   const db = useDb()
   const keys = [study.outcome, ...study.covariates]
-  const [measureRows, notes, releases, creator] = await Promise.all([
+  const [measureRows, notes, releases, creator, approval] = await Promise.all([
     db.select({ key: measures.key, label: measures.label, unit: measures.unit }).from(measures).where(inArray(measures.key, keys)),
     db.select().from(validityNotes).where(eq(validityNotes.studyId, studyId)),
     run.releaseIds.length
@@ -27,6 +27,7 @@ export async function workbookInput(studyId: number, runId: number, user: Sessio
         }).from(sourceReleases).innerJoin(sources, eq(sources.id, sourceReleases.sourceId)).where(inArray(sourceReleases.id, run.releaseIds)).orderBy(sourceReleases.id)
       : Promise.resolve([]),
     run.createdBy ? db.select({ name: users.name, email: users.email }).from(users).where(eq(users.id, run.createdBy)) : Promise.resolve([]),
+    study.status === 'approved' ? approvalOf(studyId) : Promise.resolve(null),
   ])
   const label = new Map(measureRows.map(m => [m.key, `${m.label} (${m.key}, ${m.unit})`]))
   const valueKeys = [...new Set(rows.flatMap(r => Object.keys(r.values)))]
@@ -35,6 +36,7 @@ export async function workbookInput(studyId: number, runId: number, user: Sessio
     study: {
       id: study.id, title: study.title, question: study.question, outcome: study.outcome, outcomeLabel: measureRows.find(m => m.key === study.outcome)?.label ?? null,
       transform: study.transform, treated: study.treated, start: study.start, window: study.window ?? null, covariates: study.covariates, status: study.status, version: study.version,
+      approval,
     },
     run: {
       id: run.id, design: run.design, spec: run.spec, fingerprint: run.fingerprint, result: run.result as unknown as EstimateResult,
@@ -51,6 +53,15 @@ export async function workbookInput(studyId: number, runId: number, user: Sessio
     software: { name: 'Counterpart', version: pkg.version },
     generated: { at: new Date(), by: `${user.name} (${user.email})` },
   }
+}
+
+/** The reviewer and moment of a study's approval, from the audit log. */
+export async function approvalOf(studyId: number): Promise<{ by: string, at: Date } | null> {
+  const [row] = await useDb().select({ at: auditLog.at, name: users.name, email: users.email }).from(auditLog)
+    .leftJoin(users, eq(users.id, auditLog.userId))
+    .where(and(eq(auditLog.entity, 'study'), eq(auditLog.entityId, String(studyId)), eq(auditLog.action, 'review.approve')))
+    .orderBy(desc(auditLog.id)).limit(1)
+  return row ? { by: row.name ? `${row.name} (${row.email})` : 'unknown', at: row.at } : null
 }
 
 export async function runWorkbook(studyId: number, runId: number, user: SessionUser) {

@@ -91,6 +91,9 @@ describe('estimates workbook', () => {
     expect(summaryCell(wb, 'Treated units').value).toBe('AA')
     expect(summaryCell(wb, 'Policy start').value).toBe('2006')
     expect(summaryCell(wb, 'Design').value).toBe('Difference-in-differences')
+    expect(summaryCell(wb, 'Review').value).toBe('Not approved: these figures may still change')
+    const approved = await open(input('did', { status: 'approved', approval: { by: 'Remy Reviewer', at: new Date('2026-12-01T09:00:00Z') } }))
+    expect(summaryCell(approved, 'Review').value).toBe('Approved by Remy Reviewer on 2026-12-01T09:00:00.000Z; locked')
     // Cautions: the standing ones, plus the one-treated-unit and few-clusters ones.
     const text: string[] = []
     wb.getWorksheet('Summary')!.eachRow(r => text.push(String(r.getCell(2).value ?? '')))
