@@ -68,6 +68,14 @@ test('an analyst builds a study on the demo data; a reviewer reads it and cannot
   await page.getByTestId('indexed').click()
   await snap(page, 'study-trends')
 
+  // Setup can be edited by its owner: the same form, filled in
+  await page.getByTestId('study-steps').getByRole('link', { name: 'Setup' }).click()
+  await page.getByTestId('edit-setup').click()
+  await expect(page.getByLabel('Pre-period to')).toHaveValue('2017-06')
+  await page.getByLabel('Question').fill('Did mediation before filing lower eviction filings in the first adopter, before it was strengthened?')
+  await page.getByRole('button', { name: 'Save the setup' }).click()
+  await expect(page.getByTestId('setup-step')).toContainText('before it was strengthened')
+
   // Estimates
   await page.getByTestId('study-steps').getByRole('link', { name: 'Estimates' }).click()
   await page.getByLabel('Design').selectOption('did')
@@ -89,6 +97,8 @@ test('an analyst builds a study on the demo data; a reviewer reads it and cannot
   await expect(page.getByTestId('new-study')).toHaveCount(0)
   await page.getByRole('link', { name: title }).click()
   await expect(page.getByTestId('read-only')).toBeVisible()
+  await expect(page.getByTestId('setup-step')).toContainText('VM-BR-04')
+  await expect(page.getByTestId('edit-setup')).toHaveCount(0)
   await page.goto(`${studyUrl}/pool`)
   await expect(page.getByTestId('pool-table').locator(`tr[data-code="${code}"]`).getByTestId('decision-reason')).toContainText('court backlog')
   const boxes = page.getByTestId('pool-table').getByRole('checkbox')
