@@ -1,7 +1,9 @@
 /**
  * The estimates workbook of one run (exceljs): what a budget office receives.
  *   const buffer = await buildWorkbook(input)
- * Pure: takes plain objects (the route gathers them), touches no database.
+ * Pure: takes plain objects (the route gathers them), touches no database. Written with
+ * exceljs' streaming writer, row by row, so a panel of hundreds of thousands of rows does
+ * not sit in memory as cell objects (strings are written inline, not as shared strings).
  *
  * Sheets: Summary, Coefficients, Event study, Pre-trend tests, Donor pool, Panel rows,
  * Validity, Provenance. Numbers are number cells with number formats; every table has a
@@ -12,6 +14,7 @@
  * carriage return) is written with a leading apostrophe ("'=SUM(A1)"), so that even a program
  * that re-reads the text as input (a CSV save, a paste) does not evaluate it.
  */
+import { PassThrough } from 'node:stream'
 import ExcelJS from 'exceljs'
 import type { EstimateResult } from '../../../shared/engine/result'
 import { allCautions } from '../../../shared/delivery/cautions'
@@ -121,16 +124,30 @@ function cellValue(v: CellValue): ExcelJS.CellValue {
 
 interface Column { header: string, width: number, format?: string }
 
-function table(wb: ExcelJS.Workbook, name: string, columns: Column[], rows: CellValue[][]): ExcelJS.Worksheet {
+type Book = ExcelJS.stream.xlsx.WorkbookWriter
+type Sheet = ExcelJS.Worksheet
+
+/** Adds one row, lets the caller style it, and writes it out (a written row cannot change). */
+function line(ws: Sheet, values: ExcelJS.CellValue[], style?: (row: ExcelJS.Row) => void): void {
+  const row = ws.addRow(values)
+  style?.(row)
+  row.commit()
+}
+
+const wrapTop: Partial<ExcelJS.Alignment> = { wrapText: true, vertical: 'top' }
+
+/** A sheet with a frozen header row, column widths and number formats; the caller commits it. */
+function table(wb: Book, name: string, columns: Column[], rows: Iterable<CellValue[]>, options: { wrap?: boolean } = {}): Sheet {
   const ws = wb.addWorksheet(name, { views: [{ state: 'frozen', ySplit: 1 }] })
   ws.columns = columns.map(c => ({ width: c.width, style: c.format ? { numFmt: c.format } : {} }))
-  const head = ws.addRow(columns.map(c => c.header))
-  head.font = { bold: true }
-  head.eachCell((cell) => {
-    cell.numFmt = 'General'
-    cell.border = { bottom: { style: 'thin' } }
+  line(ws, columns.map(c => c.header), (head) => {
+    head.font = { bold: true }
+    head.eachCell((cell) => {
+      cell.numFmt = 'General'
+      cell.border = { bottom: { style: 'thin' } }
+    })
   })
-  for (const r of rows) ws.addRow(r.map(cellValue))
+  for (const r of rows) line(ws, r.map(cellValue), options.wrap ? (row) => { row.alignment = wrapTop } : undefined)
   return ws
 }
 
@@ -148,20 +165,17 @@ const VCOV_LABELS: Record<string, string> = {
   iid: 'Classical (iid)',
 }
 
-function summary(wb: ExcelJS.Workbook, input: WorkbookInput) {
+function summary(wb: Book, input: WorkbookInput) {
   const { study, run } = input
   const r = run.result
   const ws = wb.addWorksheet('Summary', { views: [{ state: 'frozen', ySplit: 1 }] })
   ws.columns = [{ width: 34 }, { width: 90 }]
-  const title = ws.addRow([safeText(study.title), null])
-  title.font = { bold: true, size: 14 }
-  const add = (label: string, value: CellValue, format?: string) => {
-    const row = ws.addRow([label, cellValue(value)])
+  line(ws, [safeText(study.title), null], (title) => { title.font = { bold: true, size: 14 } })
+  const add = (label: string, value: CellValue, format?: string) => line(ws, [label, cellValue(value)], (row) => {
     row.getCell(1).font = { bold: true }
     if (format) row.getCell(2).numFmt = format
-    row.getCell(2).alignment = { wrapText: true, vertical: 'top', horizontal: 'left' }
-    return row
-  }
+    row.getCell(2).alignment = { ...wrapTop, horizontal: 'left' }
+  })
   add('Question', study.question ?? '')
   add('Study', `#${study.id}, version ${study.version} (${study.status.replace('_', ' ')})`)
   add('Review', study.approval ? `Approved by ${study.approval.by} on ${iso(study.approval.at)}; locked` : 'Not approved: these figures may still change')
@@ -176,7 +190,7 @@ function summary(wb: ExcelJS.Workbook, input: WorkbookInput) {
   }
   add('Design', designLabel(run.design))
   add('Standard errors', VCOV_LABELS[r.vcov] ?? r.vcov)
-  ws.addRow([])
+  line(ws, [])
   add('Effect term', r.effect.term)
   add('Effect estimate', r.effect.estimate, FORMATS.estimate)
   add('Standard error', r.effect.se, FORMATS.estimate)
@@ -191,18 +205,14 @@ function summary(wb: ExcelJS.Workbook, input: WorkbookInput) {
   if (r.nClusters != null) add('Clusters', r.nClusters, FORMATS.count)
   if (r.smallSample) add('Small-sample correction', r.smallSample)
   if (r.durbinWatson != null) add('Durbin-Watson', r.durbinWatson, FORMATS.stat)
-  ws.addRow([])
-  const head = ws.addRow(['Cautions', null])
-  head.font = { bold: true }
-  for (const c of allCautions(r, study.treated.length)) {
-    const row = ws.addRow([null, safeText(c)])
-    row.getCell(2).alignment = { wrapText: true, vertical: 'top' }
-  }
-  return ws
+  line(ws, [])
+  line(ws, ['Cautions', null], (head) => { head.font = { bold: true } })
+  for (const c of allCautions(r, study.treated.length)) line(ws, [null, safeText(c)], (row) => { row.getCell(2).alignment = wrapTop })
+  ws.commit()
 }
 
-function coefficients(wb: ExcelJS.Workbook, r: EstimateResult) {
-  table(wb, 'Coefficients', [
+function coefficients(wb: Book, r: EstimateResult) {
+  return table(wb, 'Coefficients', [
     { header: 'Term', width: 24 },
     { header: 'Estimate', width: 14, format: FORMATS.estimate },
     { header: 'Standard error', width: 16, format: FORMATS.estimate },
@@ -215,7 +225,7 @@ function coefficients(wb: ExcelJS.Workbook, r: EstimateResult) {
   ], Object.entries(r.coefficients).map(([name, c]) => [name, c.estimate, c.se, c.seIid, c.t, c.df, c.p, c.ciLow, c.ciHigh]))
 }
 
-function eventStudy(wb: ExcelJS.Workbook, r: EstimateResult) {
+function eventStudy(wb: Book, r: EstimateResult) {
   const ws = table(wb, 'Event study', [
     { header: 'Periods from start', width: 18, format: FORMATS.count },
     { header: 'Estimate', width: 14, format: FORMATS.estimate },
@@ -225,10 +235,11 @@ function eventStudy(wb: ExcelJS.Workbook, r: EstimateResult) {
     { header: 'Reference period', width: 16 },
     { header: 'Binned end point', width: 18 },
   ], (r.eventStudy ?? []).map(e => [e.relTime, e.estimate, e.se, e.ciLow, e.ciHigh, e.reference ? 'yes (0 by construction)' : '', e.bin === '<=' ? 'this and earlier' : e.bin === '>=' ? 'this and later' : '']))
-  if (!r.eventStudy?.length) ws.addRow(['This run is not an event study; no relative-time coefficients.'])
+  if (!r.eventStudy?.length) line(ws, ['This run is not an event study; no relative-time coefficients.'])
+  return ws
 }
 
-function preTrend(wb: ExcelJS.Workbook, r: EstimateResult) {
+function preTrend(wb: Book, r: EstimateResult) {
   const rows: CellValue[][] = []
   const w = r.preTrend?.wald
   if (w) {
@@ -244,11 +255,12 @@ function preTrend(wb: ExcelJS.Workbook, r: EstimateResult) {
     { header: 'df 2', width: 8, format: FORMATS.count },
     { header: 'p-value', width: 10, format: FORMATS.p },
   ], rows)
-  if (!rows.length) ws.addRow(['No pre-trend test applies to this design.'])
+  if (!rows.length) line(ws, ['No pre-trend test applies to this design.'])
+  return ws
 }
 
-function donorPool(wb: ExcelJS.Workbook, pool: WorkbookPoolRow[]) {
-  table(wb, 'Donor pool', [
+function donorPool(wb: Book, pool: WorkbookPoolRow[]) {
+  return table(wb, 'Donor pool', [
     { header: 'Jurisdiction', width: 14 },
     { header: 'Decision', width: 12 },
     { header: 'Reason', width: 40 },
@@ -269,20 +281,23 @@ function donorPool(wb: ExcelJS.Workbook, pool: WorkbookPoolRow[]) {
   ]))
 }
 
-function panelRows(wb: ExcelJS.Workbook, input: WorkbookInput) {
+function panelRows(wb: Book, input: WorkbookInput) {
   const columns = input.panelColumns ?? [...new Set(input.rows.flatMap(r => Object.keys(r.values)))].map(key => ({ key, header: key }))
   const treated = new Set(input.study.treated)
-  table(wb, 'Panel rows', [
+  function* cells(): Generator<CellValue[]> {
+    for (const r of input.rows) yield [r.unit, String(r.period), treated.has(r.unit) ? 'treated' : 'comparison', ...columns.map(c => r.values[c.key] ?? null)]
+  }
+  return table(wb, 'Panel rows', [
     { header: 'Jurisdiction', width: 14 },
     { header: 'Period', width: 12 },
     { header: 'Role', width: 12 },
     ...columns.map(c => ({ header: c.header, width: Math.max(12, c.header.length + 2), format: FORMATS.value })),
-  ], input.rows.map(r => [r.unit, String(r.period), treated.has(r.unit) ? 'treated' : 'comparison', ...columns.map(c => r.values[c.key] ?? null)]))
+  ], cells())
 }
 
-function validity(wb: ExcelJS.Workbook, notes: WorkbookValidityNote[]) {
+function validity(wb: Book, notes: WorkbookValidityNote[]) {
   const byThreat = new Map(notes.map(n => [n.threat, n]))
-  const ws = table(wb, 'Validity', [
+  return table(wb, 'Validity', [
     { header: 'Threat', width: 24 },
     { header: 'Assessment', width: 18 },
     { header: 'Note', width: 70 },
@@ -290,13 +305,10 @@ function validity(wb: ExcelJS.Workbook, notes: WorkbookValidityNote[]) {
   ], THREATS.map((t) => {
     const n = byThreat.get(t.key)
     return [t.label, n ? ASSESSMENT_LABELS[n.assessment] : 'not recorded', n?.note ?? '', (n?.evidence ?? []).map(e => `${e.kind} ${e.ref}${e.label ? ` (${e.label})` : ''}`).join('; ')]
-  }))
-  ws.eachRow((row, i) => {
-    if (i > 1) row.alignment = { wrapText: true, vertical: 'top' }
-  })
+  }), { wrap: true })
 }
 
-function provenance(wb: ExcelJS.Workbook, input: WorkbookInput) {
+function provenance(wb: Book, input: WorkbookInput) {
   const ws = table(wb, 'Provenance', [
     { header: 'Release', width: 10, format: FORMATS.count },
     { header: 'Source', width: 28 },
@@ -309,11 +321,8 @@ function provenance(wb: ExcelJS.Workbook, input: WorkbookInput) {
     { header: 'Rows', width: 10, format: FORMATS.count },
     { header: 'Imported', width: 24 },
   ], input.releases.map(r => [r.id, r.source, r.publisher, r.url, r.licence, r.label, r.fileName, r.checksum, r.rowCount, iso(r.importedAt)]))
-  ws.addRow([])
-  const kv = (label: string, value: CellValue) => {
-    const row = ws.addRow([label, cellValue(value)])
-    row.getCell(1).font = { bold: true }
-  }
+  line(ws, [])
+  const kv = (label: string, value: CellValue) => line(ws, [label, cellValue(value)], (row) => { row.getCell(1).font = { bold: true } })
   kv('Data fingerprint', input.run.fingerprint)
   kv('Run', `#${input.run.id}`)
   kv('Run by', input.run.createdBy ?? 'unknown')
@@ -322,22 +331,31 @@ function provenance(wb: ExcelJS.Workbook, input: WorkbookInput) {
   kv('Workbook made by', input.generated.by)
   kv('Workbook made at', input.generated.at.toISOString())
   kv('Spec (JSON)', JSON.stringify(input.run.spec))
+  return ws
 }
 
 export async function buildWorkbook(input: WorkbookInput): Promise<Buffer> {
-  const wb = new ExcelJS.Workbook()
+  const stream = new PassThrough()
+  const chunks: Buffer[] = []
+  stream.on('data', (chunk: Buffer) => chunks.push(chunk))
+  const ended = new Promise<void>((resolve, reject) => {
+    stream.on('end', resolve)
+    stream.on('error', reject)
+  })
+  const wb = new ExcelJS.stream.xlsx.WorkbookWriter({ stream, useStyles: true, useSharedStrings: false })
   wb.creator = `${input.software.name} ${input.software.version}`
   wb.created = input.generated.at
-  wb.title = input.study.title
   summary(wb, input)
-  coefficients(wb, input.run.result)
-  eventStudy(wb, input.run.result)
-  preTrend(wb, input.run.result)
-  donorPool(wb, input.pool)
-  panelRows(wb, input)
-  validity(wb, input.validity)
-  provenance(wb, input)
-  return Buffer.from(await wb.xlsx.writeBuffer())
+  coefficients(wb, input.run.result).commit()
+  eventStudy(wb, input.run.result).commit()
+  preTrend(wb, input.run.result).commit()
+  donorPool(wb, input.pool).commit()
+  panelRows(wb, input).commit()
+  validity(wb, input.validity).commit()
+  provenance(wb, input).commit()
+  await wb.commit()
+  await ended
+  return Buffer.concat(chunks)
 }
 
 /** A file name for the download: study title, version and run, in safe characters. */

@@ -137,7 +137,7 @@ describe('estimates workbook', () => {
     const data = input('did')
     const wb = await open(data)
     const pool = tableRows(wb.getWorksheet('Donor pool')!)
-    expect(pool[0]!.slice(0, 5)).toEqual(['BB', 'included', '', 1, 0.5])
+    expect(pool[0]!.slice(0, 5)).toEqual(['BB', 'included', undefined, 1, 0.5])
     expect(pool[1]![1]).toBe('excluded')
     expect(pool[1]![10]).toBe('policy: adoption 2005')
     const validity = tableRows(wb.getWorksheet('Validity')!)
