@@ -115,6 +115,20 @@ describe('request, approve, lock, new version', () => {
     expect(review).toMatch(new RegExp(`^Approved by .*\\(${DEMO.reviewer}\\) on \\d{4}-\\d{2}-\\d{2}T.*; locked$`))
   })
 
+  it('the database itself refuses changes to the locked study, its runs, pool and validity record', async () => {
+    const id = f.studyId
+    const refused = [
+      `UPDATE studies SET title = 'changed below the application' WHERE id = ${id}`,
+      `UPDATE studies SET locked_at = NULL WHERE id = ${id}`,
+      `UPDATE study_runs SET result = '{}'::jsonb WHERE study_id = ${id}`,
+      `DELETE FROM study_runs WHERE study_id = ${id}`,
+      `UPDATE study_pool_decisions SET included = NOT included WHERE study_id = ${id}`,
+      `INSERT INTO validity_notes (study_id, threat, assessment) VALUES (${id}, 'testing', 'open')`,
+    ]
+    for (const statement of refused) await expect(sql(statement), statement).rejects.toThrow('approved and locked')
+    await sql(`UPDATE studies SET updated_at = now() WHERE id = ${id}`)
+  })
+
   it('a new version starts from the locked study as an editable draft', async () => {
     expect((await f.reviewer.post(`/api/studies/${f.studyId}/versions`)).status).toBe(403)
     const res = await f.analyst.post(`/api/studies/${f.studyId}/versions`)
