@@ -87,6 +87,13 @@ test('an analyst builds a study on the demo data; a reviewer reads it and cannot
   await expect(page.getByTestId('cautions').first()).toContainText('parallel')
   await expect(page.getByTestId('cautions').first()).toContainText('disclosure')
   await expect(page.getByTestId('runs-table').locator('tbody tr')).toHaveCount(1)
+  // run it again: same data, so the comparison says so and the estimate does not move
+  await page.getByTestId('runs-table').getByRole('button', { name: 'Run again' }).click()
+  await expect(page.getByTestId('runs-table').locator('tbody tr')).toHaveCount(2)
+  await expect(page.getByTestId('what-changed')).toContainText('the same data')
+  await page.getByTestId('runs-table').getByRole('checkbox').first().check()
+  await page.getByTestId('runs-table').getByRole('checkbox').nth(1).check()
+  await expect(page.getByTestId('side-by-side')).toContainText('Data fingerprint')
   await snap(page, 'study-estimates')
   await signOut(page)
 
@@ -107,6 +114,7 @@ test('an analyst builds a study on the demo data; a reviewer reads it and cannot
   await expect(page.getByTestId('use-suggested')).toHaveCount(0)
   await page.goto(`${studyUrl}/estimates`)
   await expect(page.getByTestId('run-form')).toHaveCount(0)
+  await expect(page.getByTestId('runs-table').getByRole('button', { name: 'Run again' })).toHaveCount(0)
   await expect(page.getByTestId('estimate-value')).toHaveText(/^-?\d/)
   await expect(page.getByTestId('cautions').first()).toBeVisible()
   // and the server refuses a change even if one is attempted

@@ -21,7 +21,9 @@ export function useStudyRuns(id: MaybeRefOrGetter<number>) {
   return useFetch(() => `/api/studies/${toValue(id)}/runs`, { key: `study-runs-${toValue(id)}` })
 }
 
-/** The study list (status filter optional). */
-export function useStudies(status: MaybeRefOrGetter<string>) {
-  return useFetch('/api/studies', { query: computed(() => (toValue(status) ? { status: toValue(status) } : {})) })
+/** The study list (status filter optional; `mine` for the caller's own). */
+export function useStudies(status: MaybeRefOrGetter<string>, mine: MaybeRefOrGetter<boolean> = false) {
+  return useFetch('/api/studies', {
+    query: computed(() => ({ ...(toValue(status) ? { status: toValue(status) } : {}), ...(toValue(mine) ? { mine: '1' } : {}) })),
+  })
 }
