@@ -184,6 +184,8 @@ function summary(wb: Book, input: WorkbookInput) {
   add('Transform', study.transform)
   add('Treated units', study.treated.join(', '))
   add('Policy start', formatStart(study.start))
+  const periods = input.rows.map(row => String(row.period)).sort()
+  if (periods.length) add('Periods in the data', `${periods[0]} to ${periods[periods.length - 1]}`)
   if (study.window) {
     add('Pre-period', `${study.window.pre[0]} to ${study.window.pre[1]}`)
     add('Post-period', `${study.window.post[0]} to ${study.window.post[1]}`)

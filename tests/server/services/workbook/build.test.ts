@@ -90,6 +90,7 @@ describe('estimates workbook', () => {
     expect(summaryCell(wb, 'Observations').value).toBe(60)
     expect(summaryCell(wb, 'Treated units').value).toBe('AA')
     expect(summaryCell(wb, 'Policy start').value).toBe('2006')
+    expect(summaryCell(wb, 'Periods in the data').value).toBe('2001 to 2010')
     expect(summaryCell(wb, 'Design').value).toBe('Difference-in-differences')
     expect(summaryCell(wb, 'Review').value).toBe('Not approved: these figures may still change')
     const approved = await open(input('did', { status: 'approved', approval: { by: 'Remy Reviewer', at: new Date('2026-12-01T09:00:00Z') } }))
