@@ -16,6 +16,8 @@ const UNITS = 5000
 const MONTHS = 200
 const RUNS = 3
 const TARGET_MS = 30_000
+// Our own goal for the default panel read (DESIGN.md sets none): a million cells in 3 s.
+const READ_TARGET_MS = 3_000
 
 function month(t: number): string {
   return `${2000 + Math.floor(t / 12)}-${String((t % 12) + 1).padStart(2, '0')}`
@@ -68,7 +70,7 @@ export async function run(): Promise<{ name: string, medianMs: number, target: n
     }, 3)
     return [
       { name: `import 1,000,000 CSV rows (read, check, insert, commit; median of ${RUNS})`, medianMs: times[RUNS >> 1]!, target: TARGET_MS },
-      { name: `panel read, ${UNITS.toLocaleString('en')} units x ${MONTHS} months, newest of ${RUNS} releases`, medianMs: read, target: null },
+      { name: `panel read, ${UNITS.toLocaleString('en')} units x ${MONTHS} months, newest of ${RUNS} releases`, medianMs: read, target: READ_TARGET_MS },
     ]
   }
   finally {

@@ -150,6 +150,20 @@ export const observations = pgTable('observations', {
   index('observations_panel_read').on(t.measureId, t.jurisdictionId, t.period, t.releaseId),
 ])
 
+/**
+ * The current panel: for every (measure, jurisdiction, period) the value of the newest release
+ * that has it. The importer keeps it up to date in the same transaction as the release's
+ * observations, so the default panel read is one index range scan instead of picking the
+ * newest of every release cell by cell. Reads of older releases still go to observations.
+ */
+export const panelCells = pgTable('panel_cells', {
+  measureId: integer('measure_id').notNull(),
+  jurisdictionId: integer('jurisdiction_id').notNull(),
+  period: text('period').notNull(),
+  value: doublePrecision('value').notNull(),
+  releaseId: integer('release_id').notNull(),
+}, t => [primaryKey({ columns: [t.measureId, t.jurisdictionId, t.period] })])
+
 export const policyEvents = pgTable('policy_events', {
   id: serial('id').primaryKey(),
   jurisdictionId: integer('jurisdiction_id').notNull().references(() => jurisdictions.id),

@@ -3,7 +3,8 @@
  * jurisdiction and period, taking for every cell the newest release that has it (highest
  * release id among imported releases). `release` limits the read to given releases (the
  * ones a study run used), `asOf` to releases imported by then: both reproduce older reads.
- * Served by the index observations_panel_read (measure, jurisdiction, period, release).
+ * The default read is served by panel_cells (kept current by the importer); reads of older
+ * releases by the index observations_panel_read (measure, jurisdiction, period, release).
  */
 import type pg from 'pg'
 import { parsePeriod } from '../../shared/utils/periods'
@@ -50,8 +51,17 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
     // At the millisecond: an importedAt copied from a JSON reply includes that release.
     where.push(`o.release_id IN (SELECT id FROM source_releases WHERE status = 'done' AND date_trunc('milliseconds', imported_at) <= $${params.length}::timestamptz)`)
   }
-  // Descending on every key: a backward scan of observations_panel_read delivers each
-  // cell's newest release first, so DISTINCT ON needs no sort.
+  // The default read (newest release per cell) comes from panel_cells, which the importer
+  // keeps current: one range scan of its primary key. Reads limited to releases or to a
+  // moment pick the newest per cell from observations: a backward scan of
+  // observations_panel_read delivers each cell's newest release first, so DISTINCT ON needs no sort.
+  const current = !q.release.length && !q.asOf
+  const cells = current
+    ? `SELECT o.jurisdiction_id, o.period, o.value, o.release_id FROM panel_cells o WHERE ${where.join(' AND ')}`
+    : `SELECT DISTINCT ON (o.jurisdiction_id, o.period) o.jurisdiction_id, o.period, o.value, o.release_id
+               FROM observations o
+               WHERE ${where.join(' AND ')}
+               ORDER BY o.jurisdiction_id DESC, o.period DESC, o.release_id DESC`
   const client = await pool.connect()
   let rows: [string, string, number, number][]
   try {
@@ -59,12 +69,7 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
     // Enough sort memory to order a few million cells without spilling to disk.
     await client.query(`SET LOCAL work_mem = '128MB'`)
     const result = await client.query<[string, string, number, number]>({
-      text: `SELECT j.code, c.period, c.value, c.release_id FROM (
-               SELECT DISTINCT ON (o.jurisdiction_id, o.period) o.jurisdiction_id, o.period, o.value, o.release_id
-               FROM observations o
-               WHERE ${where.join(' AND ')}
-               ORDER BY o.jurisdiction_id DESC, o.period DESC, o.release_id DESC
-             ) c JOIN jurisdictions j ON j.id = c.jurisdiction_id
+      text: `SELECT j.code, c.period, c.value, c.release_id FROM (${cells}) c JOIN jurisdictions j ON j.id = c.jurisdiction_id
              ORDER BY j.code, c.period`,
       values: params,
       rowMode: 'array',

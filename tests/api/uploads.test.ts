@@ -98,6 +98,13 @@ describe('good files', () => {
     expect(old.rows.map(r => r.value)).toEqual([1 + A.length, 2 + A.length])
     const asOf = await panel(analyst, `measure=${filings}&units=${A}&from=2020-01&to=2020-02&asOf=${new Date(firstAt).toISOString()}`)
     expect(asOf.rows.map(r => r.value)).toEqual([1 + A.length, 2 + A.length])
+    // The current panel the default read uses agrees with the newest release of every cell.
+    const drift = await sql(`SELECT o.* FROM (
+        SELECT DISTINCT ON (measure_id, jurisdiction_id, period) measure_id, jurisdiction_id, period, value, release_id
+        FROM observations ORDER BY measure_id, jurisdiction_id, period, release_id DESC) o
+      FULL JOIN panel_cells c USING (measure_id, jurisdiction_id, period)
+      WHERE c.release_id IS DISTINCT FROM o.release_id OR c.value IS DISTINCT FROM o.value`)
+    expect(drift).toEqual([])
     const csv = await analyst.get(`/api/panel?measure=${filings}&units=${A}&to=2020-02&format=csv`)
     expect(csv.headers.get('content-type')).toContain('text/csv')
     expect(csv.body).toBe(`jurisdiction,period,value\n${A},2020-01,${(1 + A.length) * 10}\n${A},2020-02,${(2 + A.length) * 10}\n`)
@@ -198,6 +205,7 @@ describe('failed imports', () => {
     const [after] = await sql('SELECT status, row_count, errors FROM source_releases WHERE id = $1', [release.id])
     expect(after).toMatchObject({ status: 'failed', row_count: 0, errors: [{ row: null, column: null, problem: 'connection lost' }] })
     expect(await sql('SELECT 1 FROM observations WHERE release_id = $1', [release.id])).toEqual([])
+    expect(await sql('SELECT 1 FROM panel_cells WHERE release_id = $1', [release.id])).toEqual([])
     const reads = await panel(reviewer, `measure=${filings}&units=${A}&from=2020-01&to=2020-01`)
     expect(reads.rows[0]!.value).toBe((1 + A.length) * 10)
   })

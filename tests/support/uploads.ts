@@ -37,6 +37,7 @@ export async function dataFingerprint() {
     (SELECT count(*) FROM source_releases)::int AS releases,
     (SELECT count(*) FROM observations)::int AS observations,
     (SELECT coalesce(sum(hashtext(release_id || ':' || measure_id || ':' || jurisdiction_id || ':' || period || ':' || value)::bigint), 0)::text FROM observations) AS observation_hash,
+    (SELECT coalesce(sum(hashtext(release_id || ':' || measure_id || ':' || jurisdiction_id || ':' || period || ':' || value)::bigint), 0)::text FROM panel_cells) AS current_panel_hash,
     (SELECT count(*) FROM measures)::int AS measures,
     (SELECT count(*) FROM jurisdictions)::int AS jurisdictions,
     (SELECT count(*) FROM jobs)::int AS jobs,

@@ -79,6 +79,22 @@ export async function insertObservations(client: Queryable, releaseId: number, o
     )
     await onBatch?.(end)
   }
+  await updatePanelCells(client, releaseId)
+}
+
+/**
+ * Brings the current panel (panel_cells) up to date with one release's observations, in the
+ * same transaction: a cell takes the release's value unless a newer release already has it.
+ */
+async function updatePanelCells(client: Queryable, releaseId: number): Promise<void> {
+  await client.query(
+    `INSERT INTO panel_cells (measure_id, jurisdiction_id, period, value, release_id)
+     SELECT measure_id, jurisdiction_id, period, value, release_id FROM observations WHERE release_id = $1
+     ON CONFLICT (measure_id, jurisdiction_id, period)
+     DO UPDATE SET value = EXCLUDED.value, release_id = EXCLUDED.release_id
+     WHERE panel_cells.release_id < EXCLUDED.release_id`,
+    [releaseId],
+  )
 }
 
 /**
