@@ -17,10 +17,11 @@ npx nuxt build > "$DATA_DIR/build.log" 2>&1 || { tail -40 "$DATA_DIR/build.log";
 
 mkdir -p "$DATA_DIR/logs"
 pids=()
-cleanup() { for p in "${pids[@]}"; do kill "$p" 2>/dev/null || true; done; }
+# each helper runs in its own process group (setsid): end the group, children included
+cleanup() { for p in "${pids[@]}"; do kill -- "-$p" 2>/dev/null || kill "$p" 2>/dev/null || true; done; }
 trap cleanup EXIT INT TERM
 
-SMTP_PORT=2525 HTTP_PORT=2580 MAIL_STORE="$DATA_DIR/mail/messages.json" npx tsx scripts/mail-catcher.ts &
+SMTP_PORT=2525 HTTP_PORT=2580 MAIL_STORE="$DATA_DIR/mail/messages.json" setsid npx tsx scripts/mail-catcher.ts &
 pids+=($!)
 
 export HOST=127.0.0.1 PORT="$APP_PORT"
@@ -30,6 +31,6 @@ export PUBLIC_ORIGIN="http://127.0.0.1:$APP_PORT"
 export NUXT_SMTP_PORT=2525 NUXT_MAIL_CATCHER_URL="http://127.0.0.1:2580"
 log "Counterpart on http://127.0.0.1:$APP_PORT  (demo accounts: admin@, analyst@, reviewer@counterpart.test / counterpart-demo)"
 log "mails caught at http://127.0.0.1:2580/messages; stop with Ctrl-C (PostgreSQL keeps running: npm run db:stop)"
-node .output/server/index.mjs &
+setsid node .output/server/index.mjs &
 pids+=($!)
 wait "${pids[-1]}"

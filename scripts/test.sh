@@ -31,7 +31,8 @@ npx nuxt build > "$DATA_DIR/build.log" 2>&1 || { tail -40 "$DATA_DIR/build.log";
 
 pids=()
 cleanup() {
-  for p in "${pids[@]}"; do kill "$p" 2>/dev/null || true; done
+  # each helper runs in its own process group (setsid): end the group, children included
+  for p in "${pids[@]}"; do kill -- "-$p" 2>/dev/null || kill "$p" 2>/dev/null || true; done
   wait 2>/dev/null
   if [ "$started_pg" = 1 ]; then bash scripts/pg.sh stop; fi
 }
@@ -39,7 +40,7 @@ trap cleanup EXIT
 
 export MAIL_CATCHER_URL="http://127.0.0.1:$MAIL_HTTP_TEST_PORT"
 SMTP_PORT=$SMTP_TEST_PORT HTTP_PORT=$MAIL_HTTP_TEST_PORT MAIL_STORE="$DATA_DIR/mail/test-messages.json" \
-  npx tsx scripts/mail-catcher.ts > "$DATA_DIR/logs/test-mail.log" 2>&1 &
+  setsid npx tsx scripts/mail-catcher.ts > "$DATA_DIR/logs/test-mail.log" 2>&1 &
 pids+=($!)
 rm -f "$DATA_DIR/mail/test-messages.json"
 
@@ -47,7 +48,7 @@ export COUNTERPART_TEST_URL="http://127.0.0.1:$TEST_PORT"
 HOST=127.0.0.1 PORT=$TEST_PORT NUXT_AUTH_SECRET=counterpart-test-secret \
   AUTH_ORIGIN="$COUNTERPART_TEST_URL/api/auth" PUBLIC_ORIGIN="$COUNTERPART_TEST_URL" \
   NUXT_SMTP_PORT=$SMTP_TEST_PORT NUXT_MAIL_CATCHER_URL="$MAIL_CATCHER_URL" \
-  node .output/server/index.mjs > "$DATA_DIR/logs/test-app.log" 2>&1 &
+  setsid node .output/server/index.mjs > "$DATA_DIR/logs/test-app.log" 2>&1 &
 pids+=($!)
 for _ in $(seq 1 60); do
   curl -sf "$COUNTERPART_TEST_URL/api/auth/csrf" >/dev/null 2>&1 && break
