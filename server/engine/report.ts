@@ -7,7 +7,9 @@ import type { Spec } from '../../shared/engine/spec'
 import { type CovarianceRequest, type ModelFit, coefficientTable } from './regression'
 import type { Sample } from './sample'
 
-export type ResultExtras = Partial<Pick<EstimateResult, 'groupMeans' | 'eventStudy' | 'preTrend' | 'durbinWatson' | 'hacLag'>>
+export type ResultExtras = Partial<
+  Pick<EstimateResult, 'groupMeans' | 'eventStudy' | 'preTrend' | 'durbinWatson' | 'hacLag' | 'synthetic' | 'staggered' | 'decomposition' | 'errors' | 'comparison' | 'countFit'>
+>
 
 export function makeResult(spec: Spec, sample: Sample, fit: ModelFit, covariance: CovarianceRequest, effect: Effect, extras: ResultExtras, warnings: string[]): EstimateResult {
   if (!fit.converged) warnings.push('the fixed-effects transformation stopped before reaching its tolerance: estimates may be slightly inexact')
@@ -33,6 +35,13 @@ export function makeResult(spec: Spec, sample: Sample, fit: ModelFit, covariance
       kFull: fit.kFull,
       kSmallSample: fit.kSmallSample,
     },
+    inference: null,
+    synthetic: extras.synthetic ?? null,
+    staggered: extras.staggered ?? null,
+    decomposition: extras.decomposition ?? null,
+    errors: extras.errors ?? null,
+    comparison: extras.comparison ?? null,
+    countFit: extras.countFit ?? null,
     warnings,
   }
 }

@@ -8,6 +8,10 @@ import type { Design, SmallSample } from './spec'
 /** One coefficient. `se` is the spec's covariance (clustered, HAC or iid); `seIid` the classical one. */
 export interface Coefficient {
   estimate: number
+  /** Count models (its.family poisson / quasipoisson): exp(estimate) and its Wald 95% bounds. */
+  rateRatio?: number
+  rateRatioLow?: number
+  rateRatioHigh?: number
   se: number
   seIid: number
   /** Degrees of freedom of the t distribution behind `p` (G-1 when clustered, N-K otherwise). */
@@ -71,6 +75,75 @@ export interface PreTrend {
   slopeDiff: SlopeDiff | null
 }
 
+/** One placebo: a comparison unit (or a set of them, codes joined by "+") playing the treated unit. */
+export interface Placebo {
+  unit: string
+  estimate: number
+  /** Post/pre RMSPE ratio of its gap (null where the design has no gap). */
+  ratio: number | null
+}
+
+export interface InferenceResult {
+  method: 'analytic' | 'permutation' | 'wild_bootstrap'
+  /** One sentence: why this method (auto) or that the spec asked for it. */
+  reason: string
+  level: number
+  p: number
+  /** Bounds at `level`; null where the method cannot bound the effect (too few placebos). */
+  ciLow: number | null
+  ciHigh: number | null
+  /** Placebo sets or bootstrap draws used (null for analytic). */
+  draws: number | null
+  enumerated: boolean | null
+  weights: 'rademacher' | 'webb' | null
+  seed: number | null
+  /** Permutation: p-value of the post/pre RMSPE ratio. */
+  pRatio: number | null
+  /** The smallest p-value the method can give: 1/(placebos + 1) or 1/draws. */
+  pMin: number | null
+  placebos: Placebo[] | null
+  /** Gap paths (permutation with one treated unit): the treated unit's and each placebo's. */
+  gaps: { periods: string[]; treated: (number | null)[]; placebos: { unit: string; gap: (number | null)[] }[] } | null
+}
+
+export interface SyntheticResult {
+  /** Donor weights on the simplex, zeros included. */
+  weights: Record<string, number>
+  series: { period: string; treated: number; synthetic: number; gap: number }[]
+  rmspePre: number
+  rmspePost: number
+  ratio: number
+  /** Pre-period covariate means of the treated unit and its synthetic (when matched). */
+  covariateBalance: { name: string; treated: number; synthetic: number }[] | null
+}
+
+export interface GroupTimeCell {
+  cohort: string
+  period: string
+  relTime: number
+  att: number
+  se: number
+  nCohort: number
+  nComparison: number
+  post: boolean
+}
+
+export interface StaggeredResult {
+  comparison: 'never' | 'not_yet'
+  groupTime: GroupTimeCell[]
+  overall: { estimate: number; se: number }
+  byRelTime: { relTime: number; estimate: number; se: number; bandLow?: number; bandHigh?: number }[]
+  byCohort: { cohort: string; estimate: number; se: number }[]
+}
+
+export interface DecompositionRow {
+  type: 'treated_vs_never' | 'earlier_vs_later' | 'later_vs_earlier'
+  treated: string
+  control: string
+  estimate: number
+  weight: number
+}
+
 export interface EstimateResult {
   design: Design
   nObs: number
@@ -101,6 +174,17 @@ export interface EstimateResult {
     /** The K used in (N-1)/(N-K) when clustered, else null. */
     kSmallSample: number | null
   }
+  /** Headline inference: the method behind effect.p, effect.ciLow and effect.ciHigh. */
+  inference: InferenceResult | null
+  synthetic: SyntheticResult | null
+  staggered: StaggeredResult | null
+  decomposition: DecompositionRow[] | null
+  /** its: autocorrelated-error model used and its rho. */
+  errors: { kind: 'newey_west' | 'ar1_ml' | 'ar1_reml' | 'prais_winsten'; rho: number | null } | null
+  /** its with a comparison: which series the difference is taken against. */
+  comparison: { kind: 'mean' | 'synthetic'; units: string[]; weights: Record<string, number> | null } | null
+  /** its count models: Pearson dispersion chi2/(N-K) and deviance. */
+  countFit: { dispersion: number; deviance: number } | null
   warnings: string[]
 }
 

@@ -17,7 +17,10 @@ const periodPair = z.tuple([periodValue, periodValue])
 
 export const designs = ['pre_post', 'its', 'did', 'event_study', 'staggered', 'synthetic'] as const
 /** Designs whose computation exists today; the others are refused with a clear message. */
-export const availableDesigns = ['pre_post', 'its', 'did', 'event_study'] as const
+export const availableDesigns = ['pre_post', 'its', 'did', 'event_study', 'synthetic'] as const
+export const inferenceMethods = ['auto', 'analytic', 'permutation', 'wild_bootstrap'] as const
+/** Above this many draws a run is refused: 100,000 already puts a p-value's Monte Carlo error near 0.001. */
+export const MAX_DRAWS = 100_000
 export const smallSampleChoices = ['nested', 'full', 'slopes', 'clusters', 'none'] as const
 
 /** zod option: unknown keys give `unknown key "foo"` (the issue path says where). */
@@ -42,9 +45,28 @@ export const itsOptionsSchema = z.strictObject(
     seasonality: z.enum(['none', 'month', 'quarter']).default('none'),
     seasonColumn: z.string().min(1).optional(),
     hacLag: z.number().int().min(0).optional(),
+    /** Model the treated-minus-comparison series (comparative ITS): the comparison mean or the synthetic series. */
+    comparison: z.enum(['none', 'mean', 'synthetic']).default('none'),
+    family: z.enum(['gaussian', 'poisson', 'quasipoisson']).default('gaussian'),
+    /** Column whose log is the offset of a count model (population, distance driven, days). */
+    exposure: z.string().min(1).optional(),
+    errors: z.enum(['newey_west', 'ar1_ml', 'ar1_reml', 'prais_winsten']).default('newey_west'),
   },
   unknownKeys,
 )
+
+/** How the headline p-value and interval are computed (DESIGN.md, "Inference"). */
+export const inferenceSchema = z.strictObject(
+  {
+    method: z.enum(inferenceMethods).default('auto'),
+    level: z.number().gt(0.5, 'level is a coverage such as 0.95 (above 0.5)').lt(1, 'level is a coverage such as 0.95 (below 1)').default(0.95),
+    draws: z.number().int().min(99, 'draws: at least 99').max(MAX_DRAWS, `draws: at most ${MAX_DRAWS.toLocaleString('en')}; more only adds time (the Monte Carlo error at 100,000 draws is about 0.001)`).default(9999),
+    weights: z.enum(['rademacher', 'webb']).optional(),
+    seed: z.number().int().min(0).max(2 ** 32 - 1).default(1),
+  },
+  unknownKeys,
+)
+export type InferenceSpec = z.output<typeof inferenceSchema>
 
 export const specSchema = z
   .strictObject(
@@ -64,8 +86,22 @@ export const specSchema = z
       smallSample: z.enum(smallSampleChoices).default('nested'),
       window: z.strictObject({ pre: periodPair, post: periodPair }, unknownKeys).optional(),
       eventWindow: eventWindowSchema.optional(),
-      did: z.strictObject({ form: z.enum(['twfe', '2x2']).default('twfe') }, unknownKeys).default({ form: 'twfe' }),
+      did: z
+        .strictObject(
+          {
+            form: z.enum(['twfe', '2x2']).default('twfe'),
+            /** Later interventions: the treated period is split at each into phase_1, phase_2, ... */
+            phases: z.array(periodValue).min(1).max(20).optional(),
+          },
+          unknownKeys,
+        )
+        .default({ form: 'twfe' }),
       its: itsOptionsSchema.optional(),
+      /** Column holding the cluster id when clusters are groups of units (regions). */
+      clusterColumn: z.string().min(1).optional(),
+      inference: inferenceSchema.default({ method: 'auto', level: 0.95, draws: 9999, seed: 1 }),
+      synthetic: z.strictObject({ covariates: z.array(z.string().min(1)).default([]) }, unknownKeys).optional(),
+      staggered: z.strictObject({ comparison: z.enum(['never', 'not_yet']).default('never') }, unknownKeys).optional(),
     },
     unknownKeys,
   )
@@ -78,6 +114,15 @@ export const specSchema = z
     }
     const dup = spec.treated.find((u, i) => spec.treated.indexOf(u) !== i)
     if (dup !== undefined) ctx.addIssue({ code: 'custom', path: ['treated'], message: `unit "${dup}" is listed twice` })
+    if (spec.clusterColumn && spec.cluster === 'none') {
+      ctx.addIssue({ code: 'custom', path: ['clusterColumn'], message: 'clusterColumn names the clusters, but cluster is "none"; drop one of them' })
+    }
+    const breaks = spec.its?.breaks ?? []
+    const dupBreak = breaks.find((b, i) => breaks.findIndex((c) => String(c) === String(b)) !== i)
+    if (dupBreak !== undefined) ctx.addIssue({ code: 'custom', path: ['its', 'breaks'], message: `break ${dupBreak} is listed twice` })
+    const phases = spec.did.phases ?? []
+    const dupPhase = phases.find((b, i) => phases.findIndex((c) => String(c) === String(b)) !== i)
+    if (dupPhase !== undefined) ctx.addIssue({ code: 'custom', path: ['did', 'phases'], message: `phase start ${dupPhase} is listed twice` })
     const both = spec.comparison?.find((u) => spec.treated.includes(u))
     if (both !== undefined) ctx.addIssue({ code: 'custom', path: ['comparison'], message: `unit "${both}" is both treated and comparison` })
   })

@@ -30,6 +30,7 @@ export const DESIGN_LABELS: Record<RunDesign, string> = {
   its: 'Interrupted time series (one unit)',
   did: 'Difference-in-differences',
   event_study: 'Event study',
+  synthetic: 'Weighted comparison (synthetic control)',
 }
 
 const text = (what: string, max: number) => z.string().trim().min(1, `Enter ${what}.`).max(max, `Keep ${what} under ${max} characters.`)

@@ -19,7 +19,7 @@
  * regression throws.
  */
 import type { EstimateResult } from '../../../shared/engine/result'
-import type { Spec } from '../../../shared/engine/spec'
+import { type Spec, itsOptionsSchema } from '../../../shared/engine/spec'
 import { seasonOf } from '../../../shared/utils/periods'
 import { EngineError } from '../errors'
 import { type Panel, periodOrdinal, unitIndices } from '../panel'
@@ -46,7 +46,7 @@ function itsUnit(panel: Panel, spec: Spec): number {
 
 export function estimateIts(panel: Panel, spec: Spec): EstimateResult {
   const warnings: string[] = []
-  const its = spec.its ?? { seasonality: 'none' as const }
+  const its = spec.its ?? itsOptionsSchema.parse({})
   const unit = itsUnit(panel, spec)
   const roles = resolveRoles(panel, { ...spec, treated: [panel.units[unit]], comparison: [] }, { requireTreated: true, requireStart: false })
   const breakValues = its.breaks ?? (spec.start !== undefined && typeof spec.start !== 'object' ? [spec.start] : spec.window ? [spec.window.post[0]] : [])
