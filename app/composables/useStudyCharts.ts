@@ -4,7 +4,7 @@
  * period (options.plugins.periodMarks.marks = [{ index, label }]).
  */
 import {
-  BarController, BarElement, CategoryScale, Chart, Legend, LinearScale, LineController, LineElement, PointElement, Tooltip,
+  BarController, BarElement, CategoryScale, Chart, Legend, LinearScale, LineController, LineElement, PointElement, ScatterController, Tooltip,
   type Plugin,
 } from 'chart.js'
 
@@ -38,7 +38,7 @@ const periodMarks: Plugin = {
 let registered = false
 export function useStudyCharts() {
   if (!registered) {
-    Chart.register(LineController, LineElement, PointElement, BarController, BarElement, CategoryScale, LinearScale, Tooltip, Legend, periodMarks)
+    Chart.register(LineController, LineElement, PointElement, BarController, BarElement, ScatterController, CategoryScale, LinearScale, Tooltip, Legend, periodMarks)
     registered = true
   }
 }

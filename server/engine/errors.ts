@@ -19,6 +19,7 @@ export type EngineErrorCode =
   | 'too_few_observations'
   | 'not_available'
   | 'invalid_input'
+  | 'not_converged'
 
 export class EngineError extends Error {
   readonly code: EngineErrorCode

@@ -1,8 +1,9 @@
 /**
  * Dispatch by spec.design: validates the spec, builds the panel with the columns the spec
- * names, and calls the design module. Designs still to come ("staggered" group-time
- * effects, "synthetic" weights) are refused with EngineError 'not_available'; they slot in
- * here as further modules under designs/.
+ * names, and calls the design module. A design still to come is refused with EngineError
+ * 'not_available'; designs slot in here as modules under designs/. "synthetic"
+ * (designs/synthetic.ts, weighted comparison) sets its own placebo inference, which
+ * applyInference leaves as it is.
  *
  * Throws EngineError 'invalid_spec' (zod issues listed in `issues`) and whatever the design
  * throws.
@@ -13,7 +14,10 @@ import { estimateDid } from './designs/did'
 import { estimateEventStudy } from './designs/eventStudy'
 import { estimateIts } from './designs/its'
 import { estimatePrePost } from './designs/prePost'
+import { estimateStaggered } from './designs/staggered'
+import { estimateSynthetic } from './designs/synthetic'
 import { EngineError } from './errors'
+import { applyInference } from './inference/apply'
 import { type Panel, type PanelInput, buildPanel } from './panel'
 
 /** Validates a spec, throwing EngineError 'invalid_spec' with one line per problem. */
@@ -32,6 +36,9 @@ export function specColumns(spec: Spec): string[] {
   const cols = [spec.outcome, ...spec.covariates]
   if (spec.treatmentColumn) cols.push(spec.treatmentColumn)
   if (spec.its?.seasonColumn) cols.push(spec.its.seasonColumn)
+  if (spec.its?.exposure) cols.push(spec.its.exposure)
+  if (spec.clusterColumn) cols.push(spec.clusterColumn)
+  if (spec.synthetic) cols.push(...spec.synthetic.covariates)
   return [...new Set(cols)]
 }
 
@@ -47,8 +54,8 @@ const designModules: Record<Design, DesignModule | string> = {
   event_study: estimateEventStudy,
   its: estimateIts,
   pre_post: estimatePrePost,
-  staggered: 'staggered adoption (group-time effects)',
-  synthetic: 'synthetic control weights',
+  staggered: estimateStaggered,
+  synthetic: estimateSynthetic,
 }
 
 export function estimate(input: PanelInput, specInput: SpecInput | Spec | unknown): EstimateResult {
@@ -58,5 +65,8 @@ export function estimate(input: PanelInput, specInput: SpecInput | Spec | unknow
     const ready = Object.keys(designModules).filter((d) => typeof designModules[d as Design] !== 'string')
     throw new EngineError('not_available', `design "${spec.design}" (${run}) is not available yet; use ${ready.map((d) => `"${d}"`).join(', ')}`)
   }
-  return run(panelFor(input, spec), spec)
+  const panel = panelFor(input, spec)
+  const result = run(panel, spec)
+  // the headline's p-value and interval: placebo units, wild bootstrap or analytic (inference/)
+  return applyInference(panel, spec, result, (placeboSpec) => run(panel, placeboSpec))
 }

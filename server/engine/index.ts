@@ -5,8 +5,9 @@
  * API
  *   estimate(panel: PanelInput, spec): EstimateResult
  *     Validates the spec (shared/engine/spec.ts), builds the panel and runs spec.design
- *     ("did", "event_study", "its", "pre_post"; "staggered" and "synthetic" are refused as
- *     not available yet). Returns the result JSON of shared/engine/result.ts.
+ *     ("did", "event_study", "its", "pre_post", "synthetic": the weighted comparison with
+ *     placebo inference; "staggered": group-time effects with influence-function errors).
+ *     Returns the result JSON of shared/engine/result.ts.
  *   scoreDonors(panel: PanelInput, spec, weights?): DonorScores
  *     Pre-period fit of every comparison candidate against the treated unit(s), with ranks
  *     and a composite rank from the caller's weights (default 1 for each score).

@@ -238,10 +238,25 @@ export function requirePrePost(sample: Sample, roles: Roles, spec: Spec): void {
   if (post === 0) throw new EngineError('no_post_periods', `no post-periods: the treated units have no rows from their start on${when}${spec.window ? ' within the window' : ''}`)
 }
 
-/** Cluster by unit, or classical errors for cluster "none". */
+/**
+ * Cluster ids per sample row: the unit, or the value of spec.clusterColumn (a number per row,
+ * e.g. a region code) made dense in ascending order of the values.
+ */
+export function clustersOf(spec: Spec, sample: Sample): { cluster: Int32Array; nClusters: number } {
+  if (!spec.clusterColumn) return { cluster: sample.unit, nClusters: sample.nUnits }
+  const values = sample.column(spec.clusterColumn)
+  const distinct = [...new Set(values)].sort((a, b) => a - b)
+  if (distinct.some((v) => Number.isNaN(v))) throw new EngineError('invalid_input', `clusterColumn "${spec.clusterColumn}" is empty in some rows used: give every row a cluster`)
+  const index = new Map(distinct.map((v, i) => [v, i]))
+  const cluster = new Int32Array(sample.n)
+  for (let i = 0; i < sample.n; i++) cluster[i] = index.get(values[i])!
+  return { cluster, nClusters: distinct.length }
+}
+
+/** Cluster by unit (or spec.clusterColumn), or classical errors for cluster "none". */
 export function covarianceFor(spec: Spec, sample: Sample): CovarianceRequest {
   if (spec.cluster === 'none') return { kind: 'iid' }
-  return { kind: 'cluster', cluster: sample.unit, nClusters: sample.nUnits, smallSample: spec.smallSample }
+  return { kind: 'cluster', ...clustersOf(spec, sample), smallSample: spec.smallSample }
 }
 
 /**

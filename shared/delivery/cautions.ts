@@ -12,19 +12,33 @@ export const STANDING_CAUTIONS = ESTIMATE_CAUTIONS
 /** Below this many clusters, cluster-robust errors are known to be fragile. */
 export const FEW_CLUSTERS = 30
 
-export function resultCautions(result: Pick<EstimateResult, 'design' | 'nClusters' | 'preTrend' | 'warnings'>, treatedUnits: number): string[] {
+type CautionInput = Pick<EstimateResult, 'design' | 'nClusters' | 'preTrend' | 'warnings'> & Partial<Pick<EstimateResult, 'inference'>>
+
+export function resultCautions(result: CautionInput, treatedUnits: number): string[] {
   const out: string[] = []
+  const analytic = !result.inference || result.inference.method === 'analytic'
   if (result.design === 'pre_post') out.push('Pre/post comparison of the treated units alone: there is no comparison group, so anything else that changed at the same time is counted as the policy\'s effect. Treat it as weak evidence.')
-  if (treatedUnits > 0 && treatedUnits <= 2) out.push(`Only ${treatedUnits} treated unit${treatedUnits === 1 ? '' : 's'}: the effect rests on ${treatedUnits === 1 ? 'one jurisdiction' : 'two jurisdictions'}, and clustered errors understate the uncertainty.`)
-  if (result.nClusters != null && result.nClusters < FEW_CLUSTERS) out.push(`${result.nClusters} clusters: fewer than ${FEW_CLUSTERS}, so cluster-robust errors may be too small; a small-cluster method (wild cluster bootstrap) is advisable.`)
+  if (treatedUnits > 0 && treatedUnits <= 2) {
+    const tail = analytic && result.nClusters != null ? ', and clustered errors understate the uncertainty' : ''
+    out.push(`Only ${treatedUnits} treated unit${treatedUnits === 1 ? '' : 's'}: the effect rests on ${treatedUnits === 1 ? 'one jurisdiction' : 'two jurisdictions'}${tail}.`)
+  }
+  if (analytic && result.nClusters != null && result.nClusters < FEW_CLUSTERS) out.push(`${result.nClusters} clusters: fewer than ${FEW_CLUSTERS}, so cluster-robust errors may be too small; placebo units or the wild cluster bootstrap are safer.`)
   const wald = result.preTrend?.wald
-  if (wald && Number.isFinite(wald.p) && wald.p < 0.1) out.push(`The pre-period (lead) coefficients differ jointly from zero (p = ${wald.p.toFixed(3)}): the trends before the policy may not be parallel.`)
+  const lead = result.preTrend?.leadPermutation
+  if (lead) {
+    if (lead.p < 0.1) out.push(`The treated unit's pre-period (lead) coefficients are larger than those of most placebo units (p = ${lead.p.toFixed(3)} by placebo units): the trends before the policy may not be parallel.`)
+  } else if (wald && Number.isFinite(wald.p) && wald.p < 0.1) {
+    const few = result.nClusters != null && result.nClusters < FEW_CLUSTERS
+    out.push(few
+      ? `The joint lead test gives p = ${wald.p.toFixed(3)}, but with ${result.nClusters} clusters that F test is unreliable and cannot be judged; look at the lead coefficients and the placebo units instead.`
+      : `The pre-period (lead) coefficients differ jointly from zero (p = ${wald.p.toFixed(3)}): the trends before the policy may not be parallel.`)
+  }
   const slope = result.preTrend?.slopeDiff
   if (slope && Number.isFinite(slope.p) && slope.p < 0.1) out.push(`Treated and comparison units trended differently before the policy (slope difference p = ${slope.p.toFixed(3)}).`)
   for (const w of result.warnings) out.push(`Engine warning: ${w}`)
   return out
 }
 
-export function allCautions(result: Pick<EstimateResult, 'design' | 'nClusters' | 'preTrend' | 'warnings'>, treatedUnits: number): string[] {
+export function allCautions(result: CautionInput, treatedUnits: number): string[] {
   return [...resultCautions(result, treatedUnits), ...STANDING_CAUTIONS]
 }

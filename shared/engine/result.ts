@@ -22,9 +22,20 @@ export interface Coefficient {
   ciHigh: number
 }
 
-/** The effect of interest: the treatment term (its: the first level change). */
-export interface Effect extends Coefficient {
+/**
+ * The effect of interest: the treatment term (its: the first level change). `p`, `ciLow` and
+ * `ciHigh` are the headline inference's (result.inference); `se`, `seIid`, `t` and `df` stay
+ * the analytic ones. Null where no such number exists: no analytic SE for the weighted
+ * comparison, no interval when too few placebos can bound it.
+ */
+export interface Effect extends Omit<Coefficient, 'se' | 'seIid' | 't' | 'df' | 'ciLow' | 'ciHigh'> {
   term: string
+  se: number | null
+  seIid: number | null
+  t: number | null
+  df: number | null
+  ciLow: number | null
+  ciHigh: number | null
 }
 
 export interface GroupMeans {
@@ -73,6 +84,12 @@ export interface SlopeDiff {
 export interface PreTrend {
   wald: WaldResult | null
   slopeDiff: SlopeDiff | null
+  /**
+   * The lead test by placebo units: p = share of placebo units (plus the treated) whose own
+   * lead Wald statistic is at least the treated one's. Dependable where the F test is not
+   * (few clusters); absent when no placebo run was made.
+   */
+  leadPermutation?: { p: number; nPlacebos: number; pMin: number } | null
 }
 
 /** One placebo: a comparison unit (or a set of them, codes joined by "+") playing the treated unit. */
@@ -97,11 +114,18 @@ export interface InferenceResult {
   enumerated: boolean | null
   weights: 'rademacher' | 'webb' | null
   seed: number | null
-  /** Permutation: p-value of the post/pre RMSPE ratio. */
+  /** Permutation: p-value of the post/pre RMSPE ratio, and the treated unit's own ratio. */
   pRatio: number | null
+  ratio: number | null
   /** The smallest p-value the method can give: 1/(placebos + 1) or 1/draws. */
   pMin: number | null
   placebos: Placebo[] | null
+  /**
+   * The same method for every intervention term besides the headline (its level_k, did phase_k
+   * and phase_k_vs_(k-1)), by placebo units: each term's p and interval from the placebos'
+   * values of that term.
+   */
+  terms?: Record<string, { estimate: number; p: number; ciLow: number | null; ciHigh: number | null }> | null
   /** Gap paths (permutation with one treated unit): the treated unit's and each placebo's. */
   gaps: { periods: string[]; treated: (number | null)[]; placebos: { unit: string; gap: (number | null)[] }[] } | null
 }
@@ -153,8 +177,8 @@ export interface EstimateResult {
   nClusters: number | null
   /** The small-sample correction used for clustered errors, or null when not clustered. */
   smallSample: SmallSample | null
-  /** Covariance behind `se`: 'cluster' (CR1 family), 'hac' (Newey-West), 'hc1' or 'iid'. */
-  vcov: 'cluster' | 'hac' | 'hc1' | 'iid'
+  /** Covariance behind `se`: 'cluster' (CR1 family), 'hac' (Newey-West), 'hc1', 'iid', or 'influence' (influence functions, staggered). */
+  vcov: 'cluster' | 'hac' | 'hc1' | 'iid' | 'influence'
   /** Newey-West lag (its only). */
   hacLag: number | null
   effect: Effect

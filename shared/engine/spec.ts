@@ -62,7 +62,7 @@ export const inferenceSchema = z.strictObject(
     level: z.number().gt(0.5, 'level is a coverage such as 0.95 (above 0.5)').lt(1, 'level is a coverage such as 0.95 (below 1)').default(0.95),
     draws: z.number().int().min(99, 'draws: at least 99').max(MAX_DRAWS, `draws: at most ${MAX_DRAWS.toLocaleString('en')}; more only adds time (the Monte Carlo error at 100,000 draws is about 0.001)`).default(9999),
     weights: z.enum(['rademacher', 'webb']).optional(),
-    seed: z.number().int().min(0).max(2 ** 32 - 1).default(1),
+    seed: z.number().int().min(1, 'seed: a whole number from 1').max(2 ** 32 - 1).default(1),
   },
   unknownKeys,
 )

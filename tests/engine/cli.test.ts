@@ -55,7 +55,8 @@ describe('counterpart CLI', { timeout: 60_000 }, () => {
     ['an unknown unit', ['estimate', '--panel', fatalities, '--spec', file('u.json', '{"design":"did","treated":["zz"],"start":1985}')], /unknown unit "zz" in treated/],
     ['a missing panel file', ['estimate', '--panel', path.join(dir, 'none.csv'), '--spec', file('m.json', '{"design":"did"}')], /cannot read the --panel file ".*none\.csv": no such file/],
     ['a non-numeric cell', ['estimate', '--panel', file('p.csv', 'unit,period,outcome,x\na,1,1,0\na,2,2,1\nb,1,oops,0\nb,2,3,0\n'), '--spec', file('n.json', '{"design":"did","treatmentColumn":"x"}')], /line 4, column "outcome": "oops" is not a number/],
-    ['a design not available yet', ['estimate', '--panel', fatalities, '--spec', file('s.json', '{"design":"synthetic","treated":["al"],"start":1985}')], /design "synthetic" .* is not available yet/],
+    ['an inference method that cannot run', ['estimate', '--panel', fatalities, '--spec', file('s.json', '{"design":"its","treated":["al"],"start":1985,"inference":{"method":"permutation"}}')], /inference.method "permutation" cannot run: a single series has no comparison units to serve as placebos; use "analytic"/],
+    ['too many draws', ['estimate', '--panel', fatalities, '--spec', file('d.json', '{"design":"did","treated":["al"],"start":1985,"inference":{"draws":5000000}}')], /spec.inference.draws: draws: at most 100,000/],
     ['an unknown command', ['fit', '--panel', fatalities], /unknown command "fit"/],
     ['a missing option', ['estimate', '--panel', fatalities], /missing --spec/],
   ]

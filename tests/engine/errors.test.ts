@@ -3,24 +3,13 @@
 import { describe, expect, it } from 'vitest'
 import { EngineError, estimate, scoreDonors } from '../../server/engine/index'
 import type { CsvRecord, TypedRow } from '../../server/engine/panel'
-import { loadCase } from './helpers'
+import { loadCase, fails } from './helpers'
 
 const fat = loadCase('a1_fatalities_twfe_beertax').panel as { records: CsvRecord[] }
 const syn = loadCase('a3_synthetic_twfe')
 const synRecords = (syn.panel as { records: CsvRecord[] }).records
 const treated = syn.expected.treated_units as string[]
 
-function fails(f: () => unknown, code: string, message: RegExp): void {
-  let caught: unknown
-  try {
-    f()
-  } catch (e) {
-    caught = e
-  }
-  expect(caught, 'expected an EngineError').toBeInstanceOf(EngineError)
-  expect((caught as EngineError).message).toMatch(message)
-  expect((caught as EngineError).code).toBe(code)
-}
 
 const edit = (records: CsvRecord[], i: number, patch: CsvRecord) => records.map((r, k) => (k === i ? { ...r, ...patch } : r))
 
@@ -86,9 +75,8 @@ describe('engine errors', () => {
       /transform "log": outcome "outcome" has 1 value <= 0, which have no logarithm \(first: unit "al", period 1984, value 0\)/,
     )
   })
-  it('designs not available yet', () => {
-    fails(() => estimate(syn.panel, { design: 'staggered', treated, start: 11 }), 'not_available', /design "staggered" \(staggered adoption \(group-time effects\)\) is not available yet/)
-    fails(() => estimate(syn.panel, { design: 'synthetic', treated, start: 11 }), 'not_available', /design "synthetic" \(synthetic control weights\) is not available yet/)
+  it('staggered adoption refuses resampling inference', () => {
+    fails(() => estimate(syn.panel, { design: 'staggered', treated, start: 11, inference: { method: 'permutation' } }), 'invalid_spec', /inference\.method "permutation" is not available for design "staggered"/)
   })
   it('bad periods and duplicate rows', () => {
     fails(() => estimate({ records: edit(fat.records, 4, { period: 'spring' }) }, { design: 'did', treatmentColumn: 'beertax' }), 'bad_period', /line 6, column "period": cannot read "spring" as a period/)

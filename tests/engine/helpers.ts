@@ -6,6 +6,7 @@ import { fileURLToPath } from 'node:url'
 import { expect } from 'vitest'
 import { recordsFromCsv } from '../../server/engine/csv'
 import type { PanelInput } from '../../server/engine/panel'
+import { EngineError } from '../../server/engine/errors'
 
 export const repoRoot = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..')
 export const referenceDir = path.join(repoRoot, 'tests/fixtures/reference')
@@ -55,4 +56,17 @@ export const clusterVariants = [
 export function unitsWith(panel: PanelInput, column: string): string[] {
   if (!('records' in panel)) throw new Error('unitsWith: records expected')
   return [...new Set(panel.records.filter((r) => r[column] === '1').map((r) => String(r.unit)))].sort()
+}
+
+/** Asserts that f throws an EngineError with this code and a message matching `message`. */
+export function fails(f: () => unknown, code: string, message: RegExp): void {
+  let caught: unknown
+  try {
+    f()
+  } catch (e) {
+    caught = e
+  }
+  expect(caught, 'expected an EngineError').toBeInstanceOf(EngineError)
+  expect((caught as EngineError).message).toMatch(message)
+  expect((caught as EngineError).code).toBe(code)
 }

@@ -39,7 +39,7 @@ describe('invariances', () => {
     for (const s of [spec, { ...spec, design: 'event_study', eventWindow: { from: -4, to: 4 } }, { ...spec, did: { form: '2x2' } }]) {
       expect(estimate({ records: shuffled }, s)).toEqual(estimate(panel, s))
     }
-  })
+  }, 60_000)
 })
 
 describe('unbalanced panels', () => {

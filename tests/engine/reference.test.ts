@@ -6,9 +6,12 @@
 import { readFileSync, readdirSync, existsSync, statSync } from 'node:fs'
 import path from 'node:path'
 import { describe, expect, it } from 'vitest'
-import { estimate, scoreDonors } from '../../server/engine/index'
+import { estimate as engineEstimate, scoreDonors } from '../../server/engine/index'
 import type { EstimateResult } from '../../shared/engine/result'
 import { type Expected, clusterVariants, loadCase, near, nearCi, nearP, referenceDir, repoRoot, unitsWith } from './helpers'
+
+/** These cases check the analytic (model-based) numbers: the headline inference is tested in permutation.test.ts. */
+const estimate: typeof engineEstimate = (panel, spec) => engineEstimate(panel, { inference: { method: 'analytic' }, ...(spec as object) })
 
 function listFiles(dir: string, prefix = ''): string[] {
   return readdirSync(dir)

@@ -12,20 +12,33 @@
  * (treated post - treated pre) - (control post - control pre) (Card and Krueger 1994 is
  * the classic example), clustered by unit. Needs one start shared by all treated units.
  *
+ * Phases (spec.did.phases, twfe form only): later interventions split the treated period.
+ * With phase starts p_1 < p_2 < ... (each after every treated unit's start), the single
+ * treatment term is replaced by
+ *   phase_1 = 1 for a treated unit from its start until p_1 (exclusive),
+ *   phase_k = 1 for a treated unit from p_{k-1} until p_k (exclusive), the last one open,
+ * each estimated against the comparison units in the same two-way model; the effect is
+ * phase_1, and the coefficients add phase_k_vs_(k-1) = phase_k - phase_(k-1), the change each
+ * later intervention adds (its SE from the covariance). On a balanced panel with one common start each phase_k is the mean treated-minus-
+ * comparison gap over its periods less the mean gap before the start, so the single
+ * treatment estimate is the period-weighted mean of the phase estimates.
+ *
  * Both report the pre-trend slope difference (preTrend.ts) when there are enough
  * pre-periods. With starts that differ across units the TWFE estimate is a weighted mix of
  * comparisons that can mislead when effects change over time (Goodman-Bacon 2021); a
  * warning says so.
  *
- * Throws EngineError: 'invalid_spec' (no treated units, no start, 2x2 with several starts),
+ * Throws EngineError: 'invalid_spec' (no treated units, no start, 2x2 with several starts,
+ * phases with the 2x2 form or a treatmentColumn, a phase start not after the start or with
+ * no treated rows from it on),
  * 'no_pre_periods', 'no_post_periods', and what the regression throws.
  */
 import type { EstimateResult, GroupMeans } from '../../../shared/engine/result'
 import type { Spec } from '../../../shared/engine/spec'
 import { EngineError } from '../errors'
-import type { Panel } from '../panel'
+import { type Panel, periodLabel, periodOrdinal } from '../panel'
 import { preTrendSlopeDiff } from '../preTrend'
-import { type Term, coefficientOf, fitLinearModel } from '../regression'
+import { type Term, coefficientOf, fitLinearModel, linearCombination } from '../regression'
 import { countTreatedUnits, makeResult } from '../report'
 import { type Roles, type Sample, clusterWarnings, covarianceFor, requirePrePost, resolveRoles, selectSample, treatmentIndicator } from '../sample'
 
@@ -46,6 +59,40 @@ function cellMeans(sample: Sample, treated: Float64Array, post: Float64Array): G
     did: m[1] - m[0] - (m[3] - m[2]),
     nCells: { treatedPre: cnt[0], treatedPost: cnt[1], controlPre: cnt[2], controlPost: cnt[3] },
   }
+}
+
+/**
+ * One 0/1 term per phase (phase_1 from each treated unit's start to the first phase start,
+ * phase_k from the (k-1)-th phase start to the k-th), checked against the sample.
+ */
+function phaseTerms(panel: Panel, spec: Spec, roles: Roles, sample: Sample): Term[] {
+  const values = spec.did.phases ?? []
+  const phases = values.map((value, k) => ({ value, ordinal: periodOrdinal(panel, value, `did.phases[${k}]`) })).sort((a, b) => a.ordinal - b.ordinal)
+  const latestStart = Math.max(...roles.treated.map((u) => roles.start[u]))
+  const startText = roles.commonStart !== null ? `the start ${periodLabel(panel, latestStart)}` : `the latest start ${periodLabel(panel, latestStart)}`
+  const early = phases.find((p) => p.ordinal <= latestStart)
+  if (early) throw new EngineError('invalid_spec', `did.phases: phase start ${early.value} is not after ${startText}; each phase start marks a later intervention, after the treatment starts`)
+  let lastTreated = -Infinity
+  for (let i = 0; i < sample.n; i++) if (roles.isTreated[sample.unitPanel[sample.unit[i]]]) lastTreated = Math.max(lastTreated, sample.ordinal[i])
+  const late = phases.find((p) => p.ordinal > lastTreated)
+  if (late) throw new EngineError('invalid_spec', `did.phases: phase start ${late.value} is outside the data: the treated units' last period is ${periodLabel(panel, lastTreated)}${spec.window ? ' within the window' : ''}`)
+  const bounds = [...phases.map((p) => p.ordinal), Infinity]
+  const terms: Term[] = bounds.map((_, k) => ({ name: `phase_${k + 1}`, values: new Float64Array(sample.n) }))
+  const rows = new Array<number>(terms.length).fill(0)
+  for (let i = 0; i < sample.n; i++) {
+    const u = sample.unitPanel[sample.unit[i]]
+    const o = sample.ordinal[i]
+    if (!roles.isTreated[u] || o < roles.start[u]) continue
+    const k = bounds.findIndex((b) => o < b)
+    terms[k].values[i] = 1
+    rows[k]++
+  }
+  const empty = rows.findIndex((c) => c === 0)
+  if (empty >= 0) {
+    const from = empty === 0 ? startText.replace(/^the /, '') : `phase start ${phases[empty - 1].value}`
+    throw new EngineError('invalid_spec', `did.phases: phase_${empty + 1} (from ${from}${empty < phases.length ? ` to ${phases[empty].value}` : ''}) has no treated rows; remove that phase start`)
+  }
+  return terms
 }
 
 function covariateTerms(spec: Spec, sample: Sample): Term[] {
@@ -84,18 +131,22 @@ export function estimateDid(panel: Panel, spec: Spec): EstimateResult {
   const byColumn = spec.treatmentColumn !== undefined
   const twoByTwo = spec.did.form === '2x2'
   if (byColumn && twoByTwo) throw new EngineError('invalid_spec', 'did form "2x2" is defined by treated units and a start; it does not take a treatmentColumn')
+  const phased = spec.did.phases !== undefined
+  if (phased && twoByTwo) throw new EngineError('invalid_spec', 'did.phases needs the two-way form: the 2x2 form has one pre and one post cell and cannot split the treated period; use did form "twfe"')
+  if (phased && byColumn) throw new EngineError('invalid_spec', 'did.phases splits the treated period of the treated units from their start; it does not apply to a treatmentColumn (code the phases as columns of your own instead)')
   const roles = resolveRoles(panel, spec, { requireTreated: !byColumn, requireStart: !byColumn })
   const columns = [...(byColumn ? [spec.treatmentColumn!] : []), ...spec.covariates]
   const sample = selectSample(panel, spec, roles, { columns }, warnings)
   if (!byColumn) requirePrePost(sample, roles, spec)
   if (twoByTwo) return estimate2x2(panel, spec, roles, sample, warnings)
 
-  const name = byColumn ? spec.treatmentColumn! : 'treatment'
+  const name = phased ? 'phase_1' : byColumn ? spec.treatmentColumn! : 'treatment'
   const d = byColumn ? sample.column(spec.treatmentColumn!) : treatmentIndicator(sample, roles)
+  const treatmentTerms = phased ? phaseTerms(panel, spec, roles, sample) : [{ name, values: d }]
   const covariance = covarianceFor(spec, sample)
   const fit = fitLinearModel({
     y: sample.y,
-    terms: [{ name, values: d }, ...covariateTerms(spec, sample)],
+    terms: [...treatmentTerms, ...covariateTerms(spec, sample)],
     intercept: false,
     absorb: { unit: sample.unit, nUnits: sample.nUnits, ...(spec.fixedEffects === 'two-way' ? { period: sample.period, nPeriods: sample.nPeriods } : {}) },
     covariance,
@@ -107,5 +158,10 @@ export function estimateDid(panel: Panel, spec: Spec): EstimateResult {
   }
   const slopeDiff = byColumn ? null : preTrendSlopeDiff(panel, spec, roles, spec.covariates, warnings)
   const effect = { term: name, ...coefficientOf(fit, name) }
-  return makeResult(spec, sample, fit, covariance, effect, { preTrend: slopeDiff ? { wald: null, slopeDiff } : null }, warnings)
+  const result = makeResult(spec, sample, fit, covariance, effect, { preTrend: slopeDiff ? { wald: null, slopeDiff } : null }, warnings)
+  // each later phase's change from the phase before it: phase_k - phase_(k-1), with its SE
+  for (let k = 2; k < treatmentTerms.length + 1; k++) {
+    result.coefficients[`phase_${k}_vs_${k - 1}`] = linearCombination(fit, { [`phase_${k}`]: 1, [`phase_${k - 1}`]: -1 })
+  }
+  return result
 }

@@ -13,7 +13,7 @@ import type { z } from 'zod'
 import { fingerprintRows } from './fingerprint'
 import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
 import { engineRows, readStudyRows } from './rows'
-import { buildRunSpec } from './spec'
+import { buildRunSpec, laterInterventions, runUsesPool } from './spec'
 import type { Run, RunData, StudyRecord } from './runData'
 
 type RunInput = z.output<typeof runCreateSchema>
@@ -41,7 +41,7 @@ export function compareRuns(run: Pick<RunRow, 'id' | 'fingerprint' | 'releaseIds
   return {
     previousId: previous.id,
     estimateDelta: a.estimate - b.estimate,
-    seDelta: a.se - b.se,
+    seDelta: a.se !== null && b.se !== null ? a.se - b.se : null,
     dataChanged: run.fingerprint !== previous.fingerprint,
     releasesAdded: run.releaseIds.filter(id => !previous.releaseIds.includes(id)),
     releasesDropped: previous.releaseIds.filter(id => !run.releaseIds.includes(id)),
@@ -72,8 +72,9 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
   const ctx = await candidateContext(study)
   const decisions = await poolDecisions(study.id)
   const comparison = includedPool(ctx, decisions)
-  const usesPool = design === 'did' || design === 'event_study'
+  const usesPool = runUsesPool(design, options)
   if (usesPool && !comparison.length) badRequest('The pool is empty: include at least one comparison jurisdiction on the Pool step.')
+  if (design === 'synthetic' && study.treated.length !== 1) badRequest(`The weighted comparison is built for one treated jurisdiction; this study has ${study.treated.length}. Use difference-in-differences, or a study per jurisdiction.`)
   const units = usesPool ? [...study.treated, ...comparison] : [...study.treated]
   const source = studySource(study, units.sort())
   const read = await readStudyRows(source)
@@ -88,6 +89,11 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
   catch (e) {
     if (isEngineError(e)) badRequest(e.message)
     throw e
+  }
+  const later = laterInterventions(study)
+  const phases = (spec.did as { phases?: unknown[] } | undefined)?.phases
+  if (design === 'did' && later.length && !phases?.length) {
+    result.warnings.push(`The treated period spans a later intervention (${later.map(l => `${l.label}, ${l.period}`).join('; ')}): this estimate averages over it. Choose "each intervention separately" to estimate each phase.`)
   }
   const fingerprint = fingerprintRows(read.rows, spec)
   const data: RunData = { source, frequency: read.frequency, releases: read.releases, pool: assemblePool(ctx, decisions).rows }

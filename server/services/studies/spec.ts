@@ -45,9 +45,30 @@ export function studySpecBase(study: StudyForSpec) {
 const SPAN: Record<string, number> = { month: 12, quarter: 8, year: 5 }
 
 /** periods: the sorted canonical periods of the rows the run will read. */
+/** Whether a run of this design and options reads the pool (comparison units). */
+export function runUsesPool(design: RunDesign, options: RunOptions): boolean {
+  return design === 'did' || design === 'event_study' || design === 'synthetic' || (design === 'its' && !!options.its?.comparison && options.its.comparison !== 'none')
+}
+
+/** Later interventions on the treated jurisdictions (after their start), sorted, without repeats. */
+export function laterInterventions(study: Pick<StudyForSpec, 'treated' | 'start' | 'interventions'>): { period: string, label: string }[] {
+  const starts = startsOf(study)
+  const seen = new Map<string, string>()
+  for (const i of study.interventions) {
+    const s = starts[i.jurisdiction]
+    if (s !== undefined && i.period > s && !seen.has(i.period)) seen.set(i.period, i.label)
+  }
+  return [...seen.entries()].sort(([a], [b]) => (a < b ? -1 : 1)).map(([period, label]) => ({ period, label }))
+}
+
 export function buildRunSpec(study: StudyForSpec, design: RunDesign, options: RunOptions, comparison: string[], periods: string[]): SpecInput {
   const spec: SpecInput = { design, ...studySpecBase(study) }
-  if (design === 'did' || design === 'event_study') spec.comparison = comparison
+  if (runUsesPool(design, options)) spec.comparison = comparison
+  const inData = (p: string) => periods.length > 0 && p > periods[0]! && p <= periods[periods.length - 1]!
+  if (design === 'did' && options.interventions === 'each' && !options.did?.phases) {
+    const phases = laterInterventions(study).map(i => i.period).filter(inData)
+    if (phases.length) spec.did = { form: options.did?.form ?? 'twfe', phases }
+  }
   if (design === 'event_study' && !options.eventWindow && periods.length) {
     const freq = parsePeriod(periods[0]!).frequency
     const span = SPAN[freq] ?? 6
@@ -64,8 +85,7 @@ export function buildRunSpec(study: StudyForSpec, design: RunDesign, options: Ru
   if (design === 'its') {
     const unit = study.treated[0]!
     const freq = periods.length ? parsePeriod(periods[0]!).frequency : 'integer'
-    const inData = (p: string) => periods.length > 0 && p > periods[0]! && p <= periods[periods.length - 1]!
-    const fromEvents = study.interventions.filter(i => i.jurisdiction === unit).map(i => i.period)
+    const fromEvents = options.interventions === 'first' ? [] : study.interventions.filter(i => i.jurisdiction === unit).map(i => i.period)
     const breaks = [...new Set([startsOf(study)[unit]!, ...fromEvents])].filter(inData).sort()
     spec.its = {
       seasonality: freq === 'month' ? 'month' : freq === 'quarter' ? 'quarter' : 'none',
@@ -73,8 +93,9 @@ export function buildRunSpec(study: StudyForSpec, design: RunDesign, options: Ru
       ...options.its,
     }
   }
-  const { its: _its, eventWindow, ...rest } = options
+  const { its: _its, eventWindow, interventions: _interventions, did, ...rest } = options
   if (eventWindow) spec.eventWindow = eventWindow
+  if (did) spec.did = { ...spec.did, ...did }
   Object.assign(spec, rest)
   return spec
 }

@@ -37,10 +37,23 @@ const fmtP3Eq = (p: number) => (p < 0.001 ? '< 0.001' : `= ${p.toFixed(3)}`)
 export function readLeadTest(result: EstimateResult | null) {
   const wald = result?.preTrend?.wald ?? null
   const slope = result?.preTrend?.slopeDiff ?? null
+  const placebo = result?.preTrend?.leadPermutation ?? null
+  // the clustered F test holds its level only with many treated and many untreated clusters:
+  // where the engine chose another method for the headline, it cannot be judged on its own
+  const fReliable = result?.inference?.method === 'analytic' && (result.nClusters ?? 0) >= 30
   const lines: string[] = []
-  if (wald) {
+  if (placebo) {
+    lines.push(placebo.p < 0.05
+      ? `Before the policy the treated unit's lead coefficients were larger than almost every placebo unit's (p ${fmtP3Eq(placebo.p)} from ${placebo.nPlacebos} placebo units): it already moved differently from its pool, so the parallel-trends assumption is in doubt. Look at which periods differ before relying on the estimate.`
+      : `Compared with ${placebo.nPlacebos} placebo units, the treated unit's leads are not unusual (p ${fmtP3Eq(placebo.p)} by placebo units). This is consistent with parallel pre-trends, but it does not prove them.`)
+    if (wald && !fReliable) lines.push(`The clustered F test (F = ${wald.F.toFixed(2)}, p ${fmtP3Eq(wald.p)}) is not a guide here: with few treated units its p-value is unreliable, so read the placebo comparison instead.`)
+  }
+  else if (wald && !fReliable) {
+    lines.push(`F = ${wald.F.toFixed(2)} (p ${fmtP3Eq(wald.p)}), but with ${result?.nClusters ?? 'few'} clusters and few treated units this test is unreliable and cannot be judged; look at the lead coefficients in the chart instead.`)
+  }
+  else if (wald) {
     lines.push(wald.p < 0.05
-      ? `The lead coefficients are jointly different from zero (F = ${wald.F.toFixed(2)}, p ${fmtP3Eq(wald.p)}): before the policy the treated unit already moved differently from the pool. The parallel-trends assumption is in doubt; revisit the pool or the design.`
+      ? `The lead coefficients are jointly different from zero (F = ${wald.F.toFixed(2)}, p ${fmtP3Eq(wald.p)}): before the policy the treated units already moved differently from the pool. The parallel-trends assumption is in doubt.`
       : `The lead coefficients are not jointly different from zero (F = ${wald.F.toFixed(2)}, p ${fmtP3Eq(wald.p)}). This is consistent with parallel pre-trends, but it does not prove them: a test with few periods or clusters has little power.`)
   }
   else lines.push('There are no lead coefficients to test (the event window has no pre-periods besides the reference).')
@@ -49,7 +62,7 @@ export function readLeadTest(result: EstimateResult | null) {
       ? `Before the policy the treated series' trend ran ${Math.abs(slope.estimate).toPrecision(3)} per period ${slope.estimate > 0 ? 'above' : 'below'} the pool's (p ${fmtP3Eq(slope.p)}): the trends diverge, and a difference-in-differences would count that divergence as effect.`
       : `The pre-period slopes differ by ${slope.estimate.toPrecision(3)} per period (p ${fmtP3Eq(slope.p)}), not a clear divergence.`)
   }
-  return { wald, slopeDiff: slope, reading: lines }
+  return { wald, slopeDiff: slope, placebo, fReliable, reading: lines }
 }
 
 export async function studyTrends(study: StudyRecord) {

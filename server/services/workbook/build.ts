@@ -20,6 +20,7 @@ import type { EstimateResult } from '../../../shared/engine/result'
 import { allCautions } from '../../../shared/delivery/cautions'
 import { guardFormula } from '../../../shared/delivery/formulaGuard'
 import { designLabel } from '../../../shared/delivery/labels'
+import { METHOD_LABELS, breaksOfSpec, inferenceText, termLabels } from '../../../shared/delivery/inference'
 import { ASSESSMENT_LABELS, THREATS, type Assessment } from '../../../shared/schemas/validity'
 
 export interface WorkbookPoolRow {
@@ -76,6 +77,8 @@ export interface WorkbookInput {
     covariates: string[]
     status: string
     version: number
+    /** Dated interventions (adoption, strengthening, repeal), whose labels name the model terms. */
+    interventions?: { jurisdiction: string, period: string, label: string }[]
     /** Who approved the study and when (null until approved). */
     approval?: { by: string, at: Date | string } | null
   }
@@ -98,7 +101,7 @@ export interface WorkbookInput {
   generated: { at: Date, by: string }
 }
 
-export const SHEETS = ['Summary', 'Coefficients', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Validity', 'Provenance'] as const
+export const SHEETS = ['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Validity', 'Provenance'] as const
 
 export const FORMATS = {
   estimate: '0.0000',
@@ -193,14 +196,19 @@ function summary(wb: Book, input: WorkbookInput) {
   add('Design', designLabel(run.design))
   add('Standard errors', VCOV_LABELS[r.vcov] ?? r.vcov)
   line(ws, [])
-  add('Effect term', r.effect.term)
+  const words = inferenceText(r)
+  const level = Math.round((r.inference?.level ?? 0.95) * 100)
+  add('Effect term', labelsOf(input)[r.effect.term] ?? r.effect.term)
   add('Effect estimate', r.effect.estimate, FORMATS.estimate)
-  add('Standard error', r.effect.se, FORMATS.estimate)
-  add('95% interval, low', r.effect.ciLow, FORMATS.estimate)
-  add('95% interval, high', r.effect.ciHigh, FORMATS.estimate)
-  add('t', r.effect.t, FORMATS.stat)
-  add('Degrees of freedom', r.effect.df, FORMATS.count)
+  add('Interval and p-value from', words.method)
+  add('Why this method', words.reason)
+  add(`${level}% interval, low`, r.effect.ciLow ?? 'unbounded', FORMATS.estimate)
+  add(`${level}% interval, high`, r.effect.ciHigh ?? 'unbounded', FORMATS.estimate)
   add('p-value', r.effect.p, FORMATS.p)
+  if (words.limits) add('Limits of the method', words.limits)
+  add('Standard error (analytic)', r.effect.se ?? 'none for this design', FORMATS.estimate)
+  if (r.effect.t !== null) add('t (analytic)', r.effect.t, FORMATS.stat)
+  if (r.effect.df !== null) add('Degrees of freedom (analytic)', r.effect.df, FORMATS.count)
   add('Observations', r.nObs, FORMATS.count)
   add('Units', r.nUnits, FORMATS.count)
   add('Periods', r.nPeriods, FORMATS.count)
@@ -213,9 +221,16 @@ function summary(wb: Book, input: WorkbookInput) {
   ws.commit()
 }
 
-function coefficients(wb: Book, r: EstimateResult) {
+/** Term names with the interventions' own labels and dates (level_2 -> "Strengthening (2020-01): change in level"). */
+function labelsOf(input: WorkbookInput): Record<string, string> {
+  const interventions = input.study.interventions ?? []
+  return termLabels(breaksOfSpec(input.run.spec), interventions, 'Start of the policy')
+}
+
+function coefficients(wb: Book, r: EstimateResult, labels: Record<string, string>) {
   return table(wb, 'Coefficients', [
     { header: 'Term', width: 24 },
+    { header: 'Meaning', width: 48 },
     { header: 'Estimate', width: 14, format: FORMATS.estimate },
     { header: 'Standard error', width: 16, format: FORMATS.estimate },
     { header: 'Classical SE', width: 14, format: FORMATS.estimate },
@@ -224,7 +239,70 @@ function coefficients(wb: Book, r: EstimateResult) {
     { header: 'p-value', width: 10, format: FORMATS.p },
     { header: '95% low', width: 14, format: FORMATS.estimate },
     { header: '95% high', width: 14, format: FORMATS.estimate },
-  ], Object.entries(r.coefficients).map(([name, c]) => [name, c.estimate, c.se, c.seIid, c.t, c.df, c.p, c.ciLow, c.ciHigh]))
+  ], Object.entries(r.coefficients).map(([name, c]) => [name, labels[name] ?? '', c.estimate, c.se, c.seIid, c.t, c.df, c.p, c.ciLow, c.ciHigh]))
+}
+
+/** How the headline p-value and interval were computed, and every placebo's effect and ratio. */
+function inferenceSheet(wb: Book, r: EstimateResult, labels: Record<string, string>) {
+  const inf = r.inference
+  const ws = table(wb, 'Inference', [
+    { header: 'Item or placebo', width: 40 },
+    { header: 'Value or effect', width: 60, format: FORMATS.estimate },
+    { header: 'Post/pre RMSPE ratio', width: 20, format: FORMATS.stat },
+  ], [])
+  if (!inf) {
+    line(ws, ['This run predates the inference record: its interval is the analytic one.'])
+    return ws
+  }
+  const rows: [string, CellValue][] = [
+    ['Method', METHOD_LABELS[inf.method]],
+    ['Why', inf.reason],
+    ['Level', inf.level],
+    ['p-value', inf.p],
+    ['Interval, low', inf.ciLow ?? 'unbounded'],
+    ['Interval, high', inf.ciHigh ?? 'unbounded'],
+    ['Placebos or draws', inf.draws],
+    ['Every set or draw enumerated', inf.enumerated === null ? '' : inf.enumerated ? 'yes' : 'no (drawn at random)'],
+    ['Bootstrap weights', inf.weights ?? ''],
+    ['Seed', inf.seed ?? 'not used'],
+    ['Smallest possible p-value', inf.pMin],
+    ['p-value of the RMSPE ratio', inf.pRatio],
+    ['Treated unit\'s RMSPE ratio', inf.ratio],
+  ]
+  for (const [k, v] of rows) line(ws, [k, cellValue(v), null])
+  for (const [term, t] of Object.entries(inf.terms ?? {})) {
+    line(ws, [`${labels[term] ?? term}: p-value`, t.p, null])
+    line(ws, [`${labels[term] ?? term}: interval`, t.ciLow === null ? 'unbounded' : `${t.ciLow} to ${t.ciHigh}`, null])
+  }
+  if (inf.placebos?.length) {
+    line(ws, [])
+    line(ws, ['Placebo unit', 'Placebo effect', 'Post/pre RMSPE ratio'], (head) => { head.font = { bold: true } })
+    for (const p of inf.placebos) line(ws, [safeText(p.unit), p.estimate, p.ratio], (row) => { row.getCell(2).numFmt = FORMATS.estimate })
+  }
+  return ws
+}
+
+/** The weighted comparison: every donor's weight, and the treated and synthetic series. */
+function weightedComparison(wb: Book, r: EstimateResult) {
+  const ws = table(wb, 'Weighted comparison', [
+    { header: 'Donor or period', width: 22 },
+    { header: 'Weight or treated', width: 18, format: FORMATS.estimate },
+    { header: 'Synthetic', width: 14, format: FORMATS.estimate },
+    { header: 'Gap', width: 14, format: FORMATS.estimate },
+  ], [])
+  const s = r.synthetic
+  if (!s) {
+    line(ws, ['This run does not use a weighted comparison.'])
+    return ws
+  }
+  for (const [unit, w] of Object.entries(s.weights).sort((a, b) => b[1] - a[1])) line(ws, [safeText(unit), w, null, null])
+  line(ws, [])
+  line(ws, ['Period', 'Treated', 'Synthetic', 'Gap'], (head) => { head.font = { bold: true } })
+  for (const p of s.series) line(ws, [p.period, p.treated, p.synthetic, p.gap])
+  line(ws, ['Pre-period RMSPE', s.rmspePre, null, null])
+  line(ws, ['Post-period RMSPE', s.rmspePost, null, null])
+  line(ws, ['Ratio', s.ratio, null, null])
+  return ws
 }
 
 function eventStudy(wb: Book, r: EstimateResult) {
@@ -248,6 +326,8 @@ function preTrend(wb: Book, r: EstimateResult) {
     rows.push([`Leads jointly zero (F): ${w.terms.join(', ')}`, w.F, w.df1, w.df2, w.p])
     rows.push(['Leads jointly zero (chi-square)', w.chi2, w.df1, null, w.pChi2])
   }
+  const lp = r.preTrend?.leadPermutation
+  if (lp) rows.push([`Leads by placebo units: share of ${lp.nPlacebos} placebo units (and the treated) with a lead statistic at least as large (smallest possible ${lp.pMin.toFixed(3)})`, null, null, null, lp.p])
   const s = r.preTrend?.slopeDiff
   if (s) rows.push([`Pre-period slope difference, treated minus comparison (estimate ${s.estimate.toPrecision(6)}, SE ${s.se.toPrecision(6)}, ${s.nObs} rows)`, s.estimate / s.se, s.df, null, s.p])
   const ws = table(wb, 'Pre-trend tests', [
@@ -348,7 +428,9 @@ export async function buildWorkbook(input: WorkbookInput): Promise<Buffer> {
   wb.creator = `${input.software.name} ${input.software.version}`
   wb.created = input.generated.at
   summary(wb, input)
-  coefficients(wb, input.run.result).commit()
+  coefficients(wb, input.run.result, labelsOf(input)).commit()
+  inferenceSheet(wb, input.run.result, labelsOf(input)).commit()
+  weightedComparison(wb, input.run.result).commit()
   eventStudy(wb, input.run.result).commit()
   preTrend(wb, input.run.result).commit()
   donorPool(wb, input.pool).commit()

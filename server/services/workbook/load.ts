@@ -36,7 +36,7 @@ export async function workbookInput(studyId: number, runId: number, user: Sessio
     study: {
       id: study.id, title: study.title, question: study.question, outcome: study.outcome, outcomeLabel: measureRows.find(m => m.key === study.outcome)?.label ?? null,
       transform: study.transform, treated: study.treated, start: study.start, window: study.window ?? null, covariates: study.covariates, status: study.status, version: study.version,
-      approval,
+      interventions: study.interventions, approval,
     },
     run: {
       id: run.id, design: run.design, spec: run.spec, fingerprint: run.fingerprint, result: run.result as unknown as EstimateResult,

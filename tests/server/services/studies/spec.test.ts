@@ -1,7 +1,7 @@
 /** buildRunSpec: the study's fields, the pool as comparison, and the defaults a run gets. */
 import { describe, expect, it } from 'vitest'
 import { parseSpec } from '../../../../server/engine'
-import { buildRunSpec } from '../../../../server/services/studies/spec'
+import { buildRunSpec, laterInterventions, runUsesPool } from '../../../../server/services/studies/spec'
 
 const study = {
   treated: ['A'],
@@ -34,5 +34,24 @@ describe('buildRunSpec', () => {
 
   it('options are passed on', () => {
     expect(buildRunSpec(study, 'did', { did: { form: '2x2' }, smallSample: 'full' }, pool, periods)).toMatchObject({ did: { form: '2x2' }, smallSample: 'full' })
+  })
+
+  it('several interventions against the comparison: did phases and a comparative its', () => {
+    expect(laterInterventions(study)).toEqual([{ period: '2020-01', label: 'strengthened' }])
+    const did = parseSpec(buildRunSpec(study, 'did', { interventions: 'each' }, pool, periods))
+    expect(did.did).toEqual({ form: 'twfe', phases: ['2020-01'] })
+    expect(parseSpec(buildRunSpec(study, 'did', {}, pool, periods)).did.phases).toBeUndefined()
+    const its = parseSpec(buildRunSpec(study, 'its', { its: { comparison: 'mean' } }, pool, periods))
+    expect(its.comparison).toEqual(pool)
+    expect(its.its).toMatchObject({ comparison: 'mean', breaks: ['2017-07', '2020-01'] })
+    expect(buildRunSpec(study, 'its', { interventions: 'first' }, pool, periods).its).toMatchObject({ breaks: ['2017-07'] })
+    expect(runUsesPool('its', {})).toBe(false)
+    expect(runUsesPool('synthetic', {})).toBe(true)
+  })
+
+  it('inference options and the seed are kept in the spec', () => {
+    const spec = parseSpec(buildRunSpec(study, 'did', { inference: { method: 'permutation', seed: 7, draws: 999, level: 0.9 } }, pool, periods))
+    expect(spec.inference).toEqual({ method: 'permutation', seed: 7, draws: 999, level: 0.9 })
+    expect(parseSpec(buildRunSpec(study, 'did', {}, pool, periods)).inference).toEqual({ method: 'auto', level: 0.95, draws: 9999, seed: 1 })
   })
 })

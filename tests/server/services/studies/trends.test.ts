@@ -24,17 +24,26 @@ describe('readLeadTest', () => {
   const slopeDiff = { estimate: -0.02, se: 0.005, df: 20, p: 0.0004, nObs: 100 }
 
   it('reads a quiet lead test as consistent with, not proof of, parallel trends', () => {
-    const r = readLeadTest({ preTrend: { wald, slopeDiff: { ...slopeDiff, p: 0.4 } } } as never)
+    const r = readLeadTest({ preTrend: { wald, slopeDiff: { ...slopeDiff, p: 0.4 } }, inference: { method: 'analytic' }, nClusters: 60 } as never)
     expect(r.reading[0]).toContain('not jointly different from zero')
     expect(r.reading[0]).toContain('does not prove')
     expect(r.reading[1]).toContain('not a clear divergence')
   })
 
   it('reads a failed test and a diverging slope as a warning', () => {
-    const r = readLeadTest({ preTrend: { wald: { ...wald, p: 0.001, F: 9 }, slopeDiff } } as never)
+    const r = readLeadTest({ preTrend: { wald: { ...wald, p: 0.001, F: 9 }, slopeDiff }, inference: { method: 'analytic' }, nClusters: 60 } as never)
     expect(r.reading[0]).toContain('in doubt')
     expect(r.reading[1]).toContain('below the pool')
     expect(r.reading[1]).toContain('p < 0.001')
+  })
+
+  it('with few clusters the F test cannot be judged and no pool change is advised; placebo units decide', () => {
+    const few = readLeadTest({ preTrend: { wald: { ...wald, p: 0.001, F: 26.9 }, slopeDiff: null }, inference: { method: 'permutation' }, nClusters: 11 } as never)
+    expect(few.reading[0]).toMatch(/unreliable and cannot be judged/)
+    expect(few.reading.join(' ')).not.toMatch(/pool/)
+    const placebo = readLeadTest({ preTrend: { wald: { ...wald, p: 0.001, F: 26.9 }, slopeDiff: null, leadPermutation: { p: 0.3, nPlacebos: 54, pMin: 1 / 55 } }, inference: { method: 'permutation' }, nClusters: 56 } as never)
+    expect(placebo.reading[0]).toMatch(/not unusual \(p = 0\.300 by placebo units\)/)
+    expect(placebo.reading[1]).toMatch(/is not a guide here/)
   })
 
   it('says when there is nothing to test', () => {

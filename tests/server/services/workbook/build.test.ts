@@ -20,11 +20,12 @@ function demoRows() {
   return rows
 }
 
-function input(design: 'did' | 'event_study', overrides: Partial<WorkbookInput['study']> = {}): WorkbookInput {
+function input(design: 'did' | 'event_study', overrides: Partial<WorkbookInput['study']> = {}, method: 'analytic' | 'auto' = 'analytic'): WorkbookInput {
   const rows = demoRows()
+  const inference = { method }
   const spec = design === 'did'
-    ? { design, outcome: 'deaths', treated: ['AA'], start: '2006' }
-    : { design, outcome: 'deaths', treated: ['AA'], start: '2006', eventWindow: { from: -3, to: 3 } }
+    ? { design, outcome: 'deaths', treated: ['AA'], start: '2006', inference }
+    : { design, outcome: 'deaths', treated: ['AA'], start: '2006', eventWindow: { from: -3, to: 3 }, inference }
   const result = estimate({ rows }, spec)
   return {
     study: { id: 7, title: 'Helmet rule and road deaths', question: '=HYPERLINK("http://x.test","click")', outcome: 'deaths', outcomeLabel: 'Road deaths', transform: 'level', treated: ['AA'], start: '2006', window: null, covariates: [], status: 'draft', version: 2, ...overrides },
@@ -68,6 +69,22 @@ function tableRows(ws: ExcelJS.Worksheet): ExcelJS.CellValue[][] {
 }
 
 describe('estimates workbook', () => {
+  it('inference: the method, its reason and every placebo unit, with an unbounded interval said in words', async () => {
+    const data = input('did', {}, 'auto')
+    const inf = data.run.result.inference!
+    expect(inf.method).toBe('permutation')
+    const wb = await open(data)
+    expect(summaryCell(wb, 'Interval and p-value from').value).toBe('placebo units')
+    expect(summaryCell(wb, '95% interval, low').value).toBe('unbounded')
+    expect(String(summaryCell(wb, 'Limits of the method').value)).toMatch(/With 5 placebos no p-value can fall below 0\.167/)
+    const rows = tableRows(wb.getWorksheet('Inference')!)
+    expect(rows[0]).toEqual(['Method', 'placebo units'])
+    expect(rows.find(r => r[0] === 'p-value')![1]).toBe(inf.p)
+    const placebos = rows.slice(rows.findIndex(r => r[0] === 'Placebo unit') + 1)
+    expect(placebos.map(r => r[0])).toEqual(inf.placebos!.map(p => p.unit))
+    expect(placebos.map(r => r[1])).toEqual(inf.placebos!.map(p => p.estimate))
+  })
+
   it('has every sheet, each with a frozen header row', async () => {
     const wb = await open(input('did'))
     expect(wb.worksheets.map(w => w.name)).toEqual([...SHEETS])
@@ -81,7 +98,7 @@ describe('estimates workbook', () => {
     const data = input('did')
     const wb = await open(data)
     const e = data.run.result.effect
-    for (const [label, value] of [['Effect estimate', e.estimate], ['Standard error', e.se], ['95% interval, low', e.ciLow], ['95% interval, high', e.ciHigh], ['p-value', e.p]] as const) {
+    for (const [label, value] of [['Effect estimate', e.estimate], ['Standard error (analytic)', e.se], ['95% interval, low', e.ciLow], ['95% interval, high', e.ciHigh], ['p-value', e.p]] as const) {
       const cell = summaryCell(wb, label)
       expect(cell.type, label).toBe(ExcelJS.ValueType.Number)
       expect(cell.value, label).toBe(value)
@@ -109,7 +126,7 @@ describe('estimates workbook', () => {
     const coef = tableRows(wb.getWorksheet('Coefficients')!)
     expect(coef.map(r => r[0])).toEqual(Object.keys(did.run.result.coefficients))
     const c = did.run.result.coefficients.treatment!
-    expect(coef[0]).toEqual(['treatment', c.estimate, c.se, c.seIid, c.t, c.df, c.p, c.ciLow, c.ciHigh])
+    expect(coef[0]).toEqual(['treatment', 'Start of the policy (2006): effect', c.estimate, c.se, c.seIid, c.t, c.df, c.p, c.ciLow, c.ciHigh])
 
     const es = input('event_study')
     const wb2 = await open(es)
