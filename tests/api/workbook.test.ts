@@ -47,17 +47,18 @@ describe('workbook download', () => {
   })
 
   it('holds every sheet with a frozen header row', () => {
-    expect(wb.worksheets.map(w => w.name)).toEqual(['Summary', 'Coefficients', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Validity', 'Provenance'])
+    expect(wb.worksheets.map(w => w.name)).toEqual(['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Validity', 'Provenance'])
     for (const ws of wb.worksheets) expect(ws.views[0], ws.name).toMatchObject({ state: 'frozen', ySplit: 1 })
   })
 
   it('summary numbers equal the run result', () => {
     const e = f.runs.event.result.effect
     expect(summary('Effect estimate').value).toBe(e.estimate)
-    expect(summary('Standard error').value).toBe(e.se)
-    expect(summary('95% interval, low').value).toBe(e.ciLow)
-    expect(summary('95% interval, high').value).toBe(e.ciHigh)
+    expect(summary('Standard error (analytic)').value).toBe(e.se)
+    expect(summary('95% interval, low').value).toBe(e.ciLow ?? 'unbounded')
+    expect(summary('95% interval, high').value).toBe(e.ciHigh ?? 'unbounded')
     expect(summary('p-value').value).toBe(e.p)
+    expect(summary('Why this method').value).toBe(f.runs.event.result.inference.reason)
     expect(summary('p-value').type).toBe(ExcelJS.ValueType.Number)
     expect(summary('Observations').value).toBe(f.runs.event.result.nObs)
     expect(summary('Treated units').value).toBe(f.codes.treated)
@@ -70,7 +71,7 @@ describe('workbook download', () => {
     expect(coef.map(c => c[0])).toEqual(Object.keys(r.coefficients))
     for (const row of coef) {
       const c = r.coefficients[row[0] as string]
-      expect(row.slice(1)).toEqual([c.estimate, c.se, c.seIid, c.t, c.df, c.p, c.ciLow, c.ciHigh])
+      expect(row.slice(2)).toEqual([c.estimate, c.se, c.seIid, c.t, c.df, c.p, c.ciLow, c.ciHigh])
     }
     const es = rowsOf('Event study')
     expect(es.map(e => e.slice(0, 5))).toEqual(r.eventStudy.map((e: any) => [e.relTime, e.estimate, e.se, e.ciLow, e.ciHigh]))

@@ -249,6 +249,28 @@ describe('unbalanced panels', () => {
     expect(r.staggered!.overall.estimate).toBeCloseTo(post.reduce((s, c) => s + w(c) * c.att, 0) / post.reduce((s, c) => s + w(c), 0), 12)
   })
 
+  it('cells with gaps take the unit-by-unit route and agree with the complete-data route', () => {
+    // an extra never-treated unit with no value at all: every comparison group is incomplete,
+    // so every cell is computed unit by unit, yet nothing may change
+    for (const comparison of ['never', 'not_yet'] as const) {
+      const base = c5Input(comparison)
+      const T = base.nPeriods
+      const y = new Float64Array((base.nUnits + 1) * T).fill(NaN)
+      y.set(base.y)
+      const start = Float64Array.from([...base.start, NaN])
+      const a = groupTimeEffects(base)
+      const b = groupTimeEffects({ ...base, y, nUnits: base.nUnits + 1, start })
+      expect(b.incompleteUnits).toEqual([base.nUnits])
+      expect(b.cells.map((c) => [c.nCohort, c.nComparison])).toEqual(a.cells.map((c) => [c.nCohort, c.nComparison]))
+      b.cells.forEach((c, i) => {
+        expect(Math.abs(c.att - a.cells[i].att)).toBeLessThan(1e-13)
+        expect(Math.abs(c.se - a.cells[i].se)).toBeLessThan(1e-13)
+      })
+      expect(Math.abs(b.overall.se - a.overall.se)).toBeLessThan(1e-13)
+      b.byRelTime.forEach((r, i) => expect(Math.abs(r.se - a.byRelTime[i].se)).toBeLessThan(1e-13))
+    }
+  })
+
   it('a missing outcome value counts as a missing period', () => {
     const blank = { records: records.map((r) => (r.unit === 'u09' && r.period === '7' ? { ...r, outcome: '' } : r)) }
     const r = estimate(blank, staggeredSpec())
@@ -287,6 +309,19 @@ describe('unbalanced panels', () => {
       'invalid_spec',
       /no cohort has comparison units at its base period/,
     )
+  })
+})
+
+describe('comparison pool', () => {
+  it('spec.comparison names the never-treated pool; other units are left out', () => {
+    const pool = neverUnits.slice(0, 8)
+    const r = estimate(c5.panel, staggeredSpec({ comparison: pool }))
+    expect(new Set(r.staggered!.groupTime.map((c) => c.nComparison))).toEqual(new Set([8]))
+    expect(r.nUnits).toBe(24 + 8)
+    const y = (u: string, t: number) => Number(records.find((q) => q.unit === u && q.period === String(t))!.outcome)
+    const mean = (us: string[]) => us.reduce((s, u) => s + y(u, 12) - y(u, 9), 0) / us.length
+    const cell = r.staggered!.groupTime.find((c) => c.cohort === '10' && c.period === '12')!
+    expect(cell.att).toBeCloseTo(mean(adopters.filter((u) => startMap[u] === 10)) - mean(pool), 12)
   })
 })
 
