@@ -34,20 +34,66 @@
  * or any comparison unit lacks the outcome is dropped ("mean", with a warning) or the
  * comparison unit lacking it is left out ("synthetic", with a warning naming it).
  *
+ * Count models (its.family "poisson" or "quasipoisson"; Lopez Bernal, Cummins and Gasparrini 2017,
+ * Int J Epidemiol 46:348-355, for segmented Poisson regression): the same terms and names on
+ * the log scale,
+ *
+ *   log E[y_t] = log(exposure_t) + b0 + b1 time_t + sum_k (c_k level_kt + d_k slope_kt) + ...
+ *
+ * fitted by iteratively reweighted least squares (poissonRegression.ts), with the offset
+ * log(its.exposure) when given. One series only: a difference of counts is not a count, so a
+ * comparison is refused, and so is transform "log" (the model is already on the log scale)
+ * and any its.errors but the default (count models here take the counts as independent given
+ * the terms; AR(1) or Newey-West errors are not combined with them). Coefficients: se is the
+ * model SE, sqrt(diag((X' diag(mu) X)^-1)) for "poisson" and that SE times sqrt(phi), phi =
+ * Pearson X2/(N - K), for "quasipoisson" (Wedderburn 1974); seIid is the Poisson SE in both.
+ * df = N - K in both, but "poisson" takes p and the 95% bounds from the normal (z = b/se, the
+ * likelihood's Wald test; df is then only the residual count), "quasipoisson" from Student t
+ * on N - K df (the dispersion is estimated). rateRatio = exp(b) with rateRatioLow/High =
+ * exp(ciLow), exp(ciHigh): the Wald 95% bounds on the same reference distribution as p.
+ * Result: countFit {dispersion, deviance}; vcov "iid" (model-based); hacLag, errors and
+ * durbinWatson null (Durbin-Watson is not defined for a count model's residuals); fit.ssr =
+ * Pearson X2, fit.sigma = sqrt(phi), fit.rSquared = 1 - deviance/null deviance.
+ *
+ * AR(1) errors (its.errors "ar1_ml", "ar1_reml", "prais_winsten"; family "gaussian", one
+ * series or a comparison's difference series): generalised least squares with
+ * e_t = rho e_(t-1) + a_t, rho by maximum or restricted likelihood or the two-step Prais and
+ * Winsten (1954) estimator (ar1Regression.ts), SEs from RSS_R/(N-K) (X'R^-1 X)^-1, t on N - K
+ * df. Rows are taken as consecutive periods, so a series with missing periods between its
+ * ends is refused. vcov "iid" (the classical covariance of the whitened regression; errors.kind
+ * says which AR(1) model), seIid = se, hacLag null, errors {kind, rho}; durbinWatson and
+ * residualAcf are those of the whitened residuals (white noise when AR(1) captures the
+ * dependence); fit.ssr = RSS_R, fit.sigma = sqrt(RSS_R/(N - K)), fit.rSquared = 1 - sum of
+ * squared original-scale residuals / total sum of squares.
+ * Newey-West (the default) is as above, with errors {kind: "newey_west", rho: null}.
+ *
+ * Every run reports residualAcf: autocorrelations r_1..r_L, L = min(24, floor(N/4)) (Box and
+ * Jenkins 1976), of the OLS residuals (Newey-West), the whitened residuals (AR(1)) or the
+ * Pearson residuals (y - mu)/sqrt(mu) (count models); a series under 50 periods is warned
+ * about (common practice: autocorrelation checks need about 50). A lag-1 autocorrelation of
+ * those residuals beyond 2/sqrt(N) (the approximate 95% bound for white noise) is warned about
+ * for count and AR(1) models, whose SEs rely on it being absent.
+ *
  * Throws EngineError 'invalid_spec' (no unit or break, a comparison with no units, fewer than
- * two usable units for "synthetic", seasonality without dated periods or season column),
- * 'no_pre_periods' / 'no_post_periods' (a break at or before the series' first period, or
- * after its last; the message names the break and the series' range), 'invalid_input'
- * (season values outside 1-12 or 1-4), 'bad_period', 'non_positive_log', 'not_available'
- * (count families, AR(1) errors and exposure, still to be wired in), and what the regression
- * and the weight fit throw.
+ * two usable units for "synthetic", seasonality without dated periods or season column; a
+ * count family with a comparison, transform "log" or AR(1) errors; its.exposure without a
+ * count family), 'no_pre_periods' / 'no_post_periods' (a break at or before the series' first
+ * period, or after its last; the message names the break and the series' range),
+ * 'invalid_input' (season values outside 1-12 or 1-4; AR(1) errors on a series with missing
+ * periods; negative or fractional counts), 'non_positive_log' (transform "log" on values <= 0,
+ * a zero or negative exposure), 'bad_period', and what the regression, the count and AR(1)
+ * fitters and the weight fit throw ('too_few_observations' for a series too short for the
+ * model, 'singular_design', 'not_converged').
  */
-import type { EstimateResult } from '../../../shared/engine/result'
+import type { Coefficient, EstimateResult } from '../../../shared/engine/result'
 import { type Spec, itsOptionsSchema } from '../../../shared/engine/spec'
 import { PeriodError, seasonOf } from '../../../shared/utils/periods'
+import { type Ar1Method, fitAr1, residualAutocorrelation } from '../ar1Regression'
+import { pTwoSidedNormal, pTwoSidedT, tQuantileAt } from '../distributions'
 import { EngineError, listSome } from '../errors'
 import { type Panel, periodLabel, periodOrdinal, unitIndices } from '../panel'
-import { type Term, coefficientOf, fitLinearModel } from '../regression'
+import { Z975, exposureOffset, fitPoisson, rateRatio } from '../poissonRegression'
+import { type CovarianceRequest, type ModelFit, type Term, coefficientTable, fitLinearModel } from '../regression'
 import { makeResult } from '../report'
 import { type Roles, type Sample, resolveRoles, selectSample } from '../sample'
 import { syntheticSeries } from './synthetic'
@@ -293,13 +339,204 @@ function segmentedTerms(panel: Panel, spec: Spec, its: ItsOptions, sample: Sampl
   return terms
 }
 
+type Family = ItsOptions['family']
+type ErrorsKind = ItsOptions['errors']
+
+const AR1_METHOD: Record<Exclude<ErrorsKind, 'newey_west'>, Ar1Method> = { ar1_ml: 'ml', ar1_reml: 'reml', prais_winsten: 'prais_winsten' }
+
+/** Refuses combinations of family, errors, exposure, comparison and transform that do not fit together. */
+function checkModelOptions(spec: Spec, its: ItsOptions): void {
+  const family = its.family
+  if (family === 'gaussian') {
+    if (its.exposure !== undefined) {
+      throw new EngineError(
+        'invalid_spec',
+        `its.exposure "${its.exposure}" is the offset of a count model, but its.family is "gaussian"; set its.family "poisson" or "quasipoisson" with the count as the outcome, or drop its.exposure (for a rate, put the rate itself as the outcome)`,
+      )
+    }
+    return
+  }
+  if (its.comparison !== 'none') {
+    throw new EngineError(
+      'invalid_spec',
+      `its.family "${family}" models the counts of one series, but its.comparison is "${its.comparison}": a difference of counts is not a count; use its.comparison "none", or its.family "gaussian" for the difference series (with transform "log" to compare rates)`,
+    )
+  }
+  if (spec.transform === 'log') {
+    throw new EngineError('invalid_spec', `transform "log" with its.family "${family}": the count model already works on the log scale (its coefficients are log rate ratios); use transform "level" with the counts as the outcome`)
+  }
+  if (its.errors !== 'newey_west') {
+    throw new EngineError(
+      'invalid_spec',
+      `its.errors "${its.errors}" with its.family "${family}": AR(1) errors are not combined with count models here; use its.family "gaussian" for AR(1) errors, or the count model alone (its.family "quasipoisson" allows for overdispersion) and check its residual autocorrelations`,
+    )
+  }
+}
+
+/** Missing periods between the series' ends: how many, and the first one. */
+function gapsOf(panel: Panel, sample: Sample): { missing: number; first: string | null } {
+  const n = sample.n
+  const missing = sample.ordinal[n - 1] - sample.ordinal[0] + 1 - n
+  for (let i = 1; i < n; i++) if (sample.ordinal[i] !== sample.ordinal[i - 1] + 1) return { missing, first: periodLabel(panel, sample.ordinal[i - 1] + 1) }
+  return { missing, first: null }
+}
+
+/** Autocorrelations r_1..r_L of residuals in time order, L = min(24, floor(N/4)); null below 4 rows. */
+function acfOf(e: Float64Array): number[] | null {
+  const maxLag = Math.min(24, Math.floor(e.length / 4))
+  return maxLag >= 1 ? residualAutocorrelation(e, maxLag) : null
+}
+
+/** What one of the three error models hands back for the result. */
+interface ItsModel {
+  fit: ModelFit
+  covariance: CovarianceRequest
+  coefficients: Record<string, Coefficient>
+  /** The residuals whose autocorrelations are reported. */
+  residuals: Float64Array
+  durbinWatson: number | null
+  hacLag: number | null
+  errors: EstimateResult['errors']
+  countFit: EstimateResult['countFit']
+}
+
+function totalSumOfSquares(y: Float64Array): number {
+  let m = 0
+  for (let i = 0; i < y.length; i++) m += y[i]
+  m /= y.length
+  let s = 0
+  for (let i = 0; i < y.length; i++) s += (y[i] - m) ** 2
+  return s
+}
+
+function neweyWestModel(y: Float64Array, terms: Term[], its: ItsOptions, n: number, warnings: string[]): ItsModel {
+  let lag = its.hacLag
+  if (lag === undefined) {
+    lag = Math.floor(4 * (n / 100) ** (2 / 9))
+    warnings.push(`Newey-West errors use a lag of ${lag} period${lag === 1 ? '' : 's'} (the usual rule of thumb for a series of ${n} periods); set its.hacLag to choose another`)
+  }
+  const covariance = { kind: 'hac' as const, lag }
+  const fit = fitLinearModel({ y, terms, intercept: true, covariance })
+  if (n < 24) warnings.push(`only ${n} periods: segmented regression with Newey-West errors needs a long series to be reliable (common practice: at least 24 periods)`)
+  return {
+    fit,
+    covariance,
+    coefficients: coefficientTable(fit),
+    residuals: fit.residuals,
+    durbinWatson: durbinWatson(fit.residuals),
+    hacLag: lag,
+    errors: { kind: 'newey_west', rho: null },
+    countFit: null,
+  }
+}
+
+function ar1Model(y: Float64Array, terms: Term[], kind: Exclude<ErrorsKind, 'newey_west'>): ItsModel {
+  const n = y.length
+  const names = ['intercept', ...terms.map((t) => t.name)]
+  const columns = [new Float64Array(n).fill(1), ...terms.map((t) => t.values)]
+  const ar = fitAr1(y, columns, names, AR1_METHOD[kind])
+  let ssr = 0
+  for (const a of ar.innovations) ssr += a * a
+  let rawSsr = 0
+  for (const e of ar.residuals) rawSsr += e * e
+  const tss = totalSumOfSquares(y)
+  const fit: ModelFit = {
+    names: ar.names,
+    beta: ar.beta,
+    vcov: ar.vcov,
+    vcovIid: ar.vcov,
+    df: ar.dfResidual,
+    dfIid: ar.dfResidual,
+    nObs: n,
+    nClusters: null,
+    kFull: names.length,
+    kSmallSample: null,
+    ssr,
+    rSquared: tss > 0 ? 1 - rawSsr / tss : NaN,
+    residuals: ar.innovations,
+    converged: true,
+  }
+  return {
+    fit,
+    covariance: { kind: 'iid' },
+    coefficients: coefficientTable(fit),
+    residuals: ar.innovations,
+    durbinWatson: durbinWatson(ar.innovations),
+    hacLag: null,
+    errors: { kind, rho: ar.rho },
+    countFit: null,
+  }
+}
+
+function countModel(panel: Panel, sample: Sample, terms: Term[], its: ItsOptions, family: Exclude<Family, 'gaussian'>, warnings: string[]): ItsModel {
+  const n = sample.n
+  const labels = Array.from(sample.rows, (r) => `period ${panel.periods[panel.period[r]].canonical}`)
+  const offset = its.exposure ? exposureOffset(sample.column(its.exposure), `exposure "${its.exposure}"`, labels) : undefined
+  const names = ['intercept', ...terms.map((t) => t.name)]
+  const columns = [new Float64Array(n).fill(1), ...terms.map((t) => t.values)]
+  const pf = fitPoisson(sample.y, columns, names, offset, { rowLabels: labels })
+  const quasi = family === 'quasipoisson'
+  const k = names.length
+  const df = pf.dfResidual
+  const critical = quasi ? tQuantileAt(0.975, df) : Z975
+  const coefficients: Record<string, Coefficient> = {}
+  names.forEach((name, j) => {
+    const b = pf.beta[j]
+    const se = quasi ? pf.seQuasi[j] : pf.se[j]
+    const t = b / se
+    const rr = rateRatio(b, se, critical)
+    coefficients[name] = {
+      estimate: b,
+      rateRatio: rr.rateRatio,
+      rateRatioLow: rr.low,
+      rateRatioHigh: rr.high,
+      se,
+      seIid: pf.se[j],
+      df,
+      t,
+      p: quasi ? pTwoSidedT(t, df) : pTwoSidedNormal(t),
+      ciLow: b - critical * se,
+      ciHigh: b + critical * se,
+    }
+  })
+  const pearson = Float64Array.from(pf.mu, (m, i) => (sample.y[i] - m) / Math.sqrt(m))
+  const fit: ModelFit = {
+    names: pf.names,
+    beta: pf.beta,
+    vcov: quasi ? pf.vcov.clone().mul(pf.dispersion) : pf.vcov,
+    vcovIid: pf.vcov,
+    df,
+    dfIid: df,
+    nObs: n,
+    nClusters: null,
+    kFull: k,
+    kSmallSample: null,
+    ssr: pf.pearsonChi2,
+    rSquared: pf.nullDeviance > 0 ? 1 - pf.deviance / pf.nullDeviance : NaN,
+    residuals: pearson,
+    converged: true,
+  }
+  // common practice: a Pearson dispersion well above 1 means Poisson SEs are too small
+  if (!quasi && pf.dispersion > 1.5) {
+    warnings.push(`the counts vary ${pf.dispersion.toFixed(2)} times as much as a Poisson model allows (Pearson dispersion ${pf.dispersion.toFixed(2)}), so the Poisson standard errors are too small; use its.family "quasipoisson"`)
+  }
+  if (its.hacLag !== undefined) warnings.push(`its.hacLag ${its.hacLag} is ignored: count models have no Newey-West errors`)
+  return {
+    fit,
+    covariance: { kind: 'iid' },
+    coefficients,
+    residuals: pearson,
+    durbinWatson: null,
+    hacLag: null,
+    errors: null,
+    countFit: { dispersion: pf.dispersion, deviance: pf.deviance },
+  }
+}
+
 export function estimateIts(panel: Panel, spec: Spec): EstimateResult {
   const warnings: string[] = []
   const its = spec.its ?? itsOptionsSchema.parse({})
-  if (its.family !== 'gaussian' || its.errors !== 'newey_west' || its.exposure !== undefined) {
-    const asked = its.family !== 'gaussian' ? `its.family "${its.family}"` : its.errors !== 'newey_west' ? `its.errors "${its.errors}"` : 'its.exposure'
-    throw new EngineError('not_available', `${asked} is not available yet in design "its"; use its.family "gaussian" with its.errors "newey_west"`)
-  }
+  checkModelOptions(spec, its)
   const kind = its.comparison
   const unit = itsUnit(panel, spec, kind)
   const pool = kind === 'none' ? [] : comparisonPool(panel, spec, unit, kind)
@@ -307,7 +544,7 @@ export function estimateIts(panel: Panel, spec: Spec): EstimateResult {
   const breakValues = its.breaks ?? (spec.start !== undefined && typeof spec.start !== 'object' ? [spec.start] : spec.window ? [spec.window.post[0]] : [])
   if (!breakValues.length) throw new EngineError('invalid_spec', 'design "its" needs a break: set its.breaks or spec.start')
   const breaks: Break[] = breakValues.map((value, k) => ({ value, ordinal: periodOrdinal(panel, value, `its.breaks[${k}]`) })).sort((a, b) => a.ordinal - b.ordinal)
-  const columns = [...spec.covariates, ...(its.seasonColumn ? [its.seasonColumn] : [])]
+  const columns = [...spec.covariates, ...(its.seasonColumn ? [its.seasonColumn] : []), ...(its.exposure ? [its.exposure] : [])]
 
   let sample: Sample
   let y: Float64Array
@@ -326,19 +563,81 @@ export function estimateIts(panel: Panel, spec: Spec): EstimateResult {
     for (let i = 0; i < sample.n; i++) y[i] = sample.y[i] - comparison.values[i]
   } else y = sample.y
   const n = sample.n
-  const span = sample.ordinal[n - 1] - sample.ordinal[0] + 1
-  if (span !== n) warnings.push(`the series has ${span - n} missing period${span - n > 1 ? 's' : ''} between its ends: time counts them, but the Newey-West errors treat neighbouring rows as adjacent`)
+  const errorsKind = its.errors
+  const family = its.family
+  const gaps = gapsOf(panel, sample)
+  if (gaps.missing) {
+    const count = `${gaps.missing} missing period${gaps.missing > 1 ? 's' : ''}`
+    if (errorsKind !== 'newey_west') {
+      throw new EngineError(
+        'invalid_input',
+        `its.errors "${errorsKind}" takes the rows as consecutive periods, but the series has ${count} between its ends (the first: ${gaps.first}); fill in the missing values, shorten the series to an unbroken stretch, or use its.errors "newey_west"`,
+      )
+    }
+    const treats = family === 'gaussian' ? 'the Newey-West errors treat' : 'the residual autocorrelations treat'
+    warnings.push(`the series has ${count} between its ends: time counts them, but ${treats} neighbouring rows as adjacent`)
+  }
 
   const terms = segmentedTerms(panel, spec, its, sample, breaks)
-  let lag = its.hacLag
-  if (lag === undefined) {
-    lag = Math.floor(4 * (n / 100) ** (2 / 9))
-    warnings.push(`Newey-West errors use a lag of ${lag} period${lag === 1 ? '' : 's'} (the usual rule of thumb for a series of ${n} periods); set its.hacLag to choose another`)
+  let model: ItsModel
+  if (family !== 'gaussian') model = countModel(panel, sample, terms, its, family, warnings)
+  else if (errorsKind !== 'newey_west') {
+    model = ar1Model(y, terms, errorsKind)
+    if (its.hacLag !== undefined) warnings.push(`its.hacLag ${its.hacLag} is ignored: its.errors "${errorsKind}" models the autocorrelation instead of Newey-West errors`)
+  } else model = neweyWestModel(y, terms, its, n, warnings)
+
+  const residualAcf = acfOf(model.residuals)
+  if (n < 50) warnings.push(`only ${n} periods: ${model.durbinWatson === null ? 'residual autocorrelation checks are' : 'the Durbin-Watson statistic and residual autocorrelations are'} unreliable on a series this short (common practice: about 50 periods or more)`)
+  const bound = 2 / Math.sqrt(n)
+  if (residualAcf && model.errors?.kind !== 'newey_west' && Math.abs(residualAcf[0]) > bound) {
+    const what =
+      family !== 'gaussian'
+        ? `the Pearson residuals of the count model are autocorrelated (lag 1: ${residualAcf[0].toFixed(2)}, beyond the rough 95% bound of ${bound.toFixed(2)} for independent errors): its standard errors take the counts as independent and are likely too small`
+        : `the whitened residuals are still autocorrelated (lag 1: ${residualAcf[0].toFixed(2)}, beyond the rough 95% bound of ${bound.toFixed(2)}): AR(1) errors do not capture all the dependence, so the standard errors may be too small; compare with its.errors "newey_west"`
+    warnings.push(what)
   }
-  const covariance = { kind: 'hac' as const, lag }
-  const fit = fitLinearModel({ y, terms, intercept: true, covariance })
-  if (n < 24) warnings.push(`only ${n} periods: segmented regression with Newey-West errors needs a long series to be reliable (common practice: at least 24 periods)`)
+
   const term = breaks.length > 1 ? 'level_1' : 'level'
   const reported = comparison ? { ...sample, nUnits: 1 + comparison.result.units.length } : sample
-  return makeResult(spec, reported, fit, covariance, { term, ...coefficientOf(fit, term) }, { durbinWatson: durbinWatson(fit.residuals), hacLag: lag, comparison: comparison?.result ?? null }, warnings)
+  const result = makeResult(
+    spec,
+    reported,
+    model.fit,
+    model.covariance,
+    { term, ...model.coefficients[term] },
+    { durbinWatson: model.durbinWatson, hacLag: model.hacLag, comparison: comparison?.result ?? null, errors: model.errors, countFit: model.countFit },
+    warnings,
+  )
+  result.coefficients = model.coefficients
+  result.residualAcf = residualAcf
+  result.itsSeries = fittedSeries(panel, sample, y, terms, model.coefficients, family !== 'gaussian' && its.exposure ? sample.column(its.exposure) : null, family !== 'gaussian')
+  return result
+}
+
+/**
+ * Observed, fitted and counterfactual series for the chart: fitted = the model's prediction;
+ * counterfactual = the same without the level and slope terms, i.e. the pre-period trend
+ * (and seasons) projected past every break. Count models: exp of the linear predictor plus
+ * the log exposure.
+ */
+function fittedSeries(panel: Panel, sample: Sample, y: Float64Array, terms: Term[], coefficients: Record<string, { estimate: number }>, exposure: Float64Array | null, count: boolean) {
+  const b0 = coefficients.intercept?.estimate ?? 0
+  const out: NonNullable<EstimateResult['itsSeries']> = []
+  for (let i = 0; i < sample.n; i++) {
+    let fitted = b0
+    let counterfactual = b0
+    for (const t of terms) {
+      const v = (coefficients[t.name]?.estimate ?? 0) * t.values[i]
+      fitted += v
+      if (!/^(level|slope)(_\d+)?$/.test(t.name)) counterfactual += v
+    }
+    const offset = exposure ? Math.log(exposure[i]) : 0
+    out.push({
+      period: periodLabel(panel, sample.ordinal[i]),
+      observed: y[i],
+      fitted: count ? Math.exp(fitted + offset) : fitted,
+      counterfactual: count ? Math.exp(counterfactual + offset) : counterfactual,
+    })
+  }
+  return out
 }

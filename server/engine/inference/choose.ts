@@ -82,10 +82,10 @@ export function chooseInference(spec: Spec, s: Situation): Choice {
   // auto
   if (s.design === 'pre_post') return { method: 'analytic', reason: 'before-and-after of the treated units alone: no comparison units can serve as placebos, so the interval is the analytic one and rests on the model being right' }
   if (s.design === 'its' && s.itsComparison === 'none') {
-    return { method: 'analytic', reason: 'a single series: no comparison units can serve as placebos, so the interval is the Newey-West one and rests on the segmented model being right' }
+    return { method: 'analytic', reason: 'a single series: no comparison units can serve as placebos, so the interval is the analytic one of the model (Newey-West, AR(1) or count-model errors, as its.errors and its.family set) and rests on the segmented model being right' }
   }
   if (s.design === 'its') {
-    if (canPermute(s)) return { method: 'analytic', reason: `no comparison unit can serve as a placebo (${canPermute(s)}), so the interval is the Newey-West one` }
+    if (canPermute(s)) return { method: 'analytic', reason: `no comparison unit can serve as a placebo (${canPermute(s)}), so the interval is the analytic one of the model (Newey-West or AR(1) errors, as its.errors sets)` }
     return { method: 'permutation', reason: `a comparison series shares shocks with the treated one that Newey-West errors understate, so each of the ${plural(s.nComparison, 'comparison unit')} in turn is run through the same model against the others` }
   }
   if (s.byColumn) {
