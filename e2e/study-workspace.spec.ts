@@ -46,7 +46,7 @@ test('an analyst builds a study on the demo data; a reviewer reads it and cannot
   await expect(table).toContainText('neighbour')
   await expect(table).toContainText('related policy')
   const poolSize = Number(await page.getByTestId('pool-size').innerText())
-  expect(poolSize).toBe(10)
+  expect(poolSize).toBe(20)
   // exclude the first included donor, with a reason
   const firstIncluded = table.locator('tbody tr').filter({ has: page.locator('input[type=checkbox]:checked') }).first()
   const code = await firstIncluded.getAttribute('data-code')
@@ -61,7 +61,8 @@ test('an analyst builds a study on the demo data; a reviewer reads it and cannot
   // Trends
   await page.getByTestId('study-steps').getByRole('link', { name: 'Trends' }).click()
   await expect(page.getByTestId('lead-test')).toBeVisible()
-  await expect(page.getByTestId('lead-reading')).toContainText(/lead coefficients/)
+  await expect(page.getByTestId('lead-reading')).toContainText(/placebo units/)
+  await expect(page.getByTestId('lead-placebo')).toContainText(/placebo units/)
   await expect(page.getByTestId('lead-test')).toContainText(/F\(\d+, \d+\)/)
   for (const chart of ['chart-main', 'chart-gap', 'chart-event', 'chart-donors']) await expect(page.getByTestId(chart).locator('canvas')).toBeVisible()
   await expect(page.getByTestId('trend-warnings')).toContainText(/seasonality/i)

@@ -4,7 +4,7 @@
  * ("Payloads of the main routes").
  */
 import { z } from 'zod'
-import { availableDesigns, eventWindowSchema, itsOptionsSchema, smallSampleChoices } from '../engine/spec'
+import { availableDesigns, eventWindowSchema, inferenceSchema, itsOptionsSchema, smallSampleChoices } from '../engine/spec'
 import type { DonorExclusion, DonorScoreRow } from '../engine/result'
 import { comparePeriods } from '../utils/periods'
 import { jurisdictionCodeSchema, measureKeySchema, periodSchema } from './registry'
@@ -27,7 +27,7 @@ export const RUN_DESIGNS = availableDesigns
 export type RunDesign = typeof RUN_DESIGNS[number]
 export const DESIGN_LABELS: Record<RunDesign, string> = {
   pre_post: 'Before and after (treated only, weak)',
-  its: 'Interrupted time series (one unit)',
+  its: 'Interrupted time series',
   did: 'Difference-in-differences',
   event_study: 'Event study',
   synthetic: 'Weighted comparison (synthetic control)',
@@ -111,9 +111,16 @@ export const runParamSchema = z.object({
   runId: z.coerce.number().int().positive({ message: 'The run id is a positive whole number.' }),
 })
 
+/**
+ * How many donors the Pool step suggests: 20, because placebo units can bound a 95% interval only
+ * with at least 19 comparison units (the smallest p is 1/(placebos + 1)), and one more keeps a
+ * pool for each of them.
+ */
+export const SUGGESTED_POOL_SIZE = 20
+
 /** Candidates: how many to suggest, and the missing-data threshold for the automatic flag. */
 export const candidatesQuerySchema = z.object({
-  k: z.coerce.number().int().min(1).max(500).default(10),
+  k: z.coerce.number().int().min(1).max(500).default(SUGGESTED_POOL_SIZE),
   maxMissing: z.coerce.number().min(0).max(1).default(0.2),
 })
 
@@ -129,8 +136,12 @@ export type PoolPut = z.input<typeof poolPutSchema>
 /** The engine spec's other keys a run may set (the study fixes outcome, units, dates and window). */
 export const runOptionsSchema = z.strictObject({
   eventWindow: eventWindowSchema.optional(),
-  did: z.strictObject({ form: z.enum(['twfe', '2x2']).default('twfe') }).optional(),
+  did: z.strictObject({ form: z.enum(['twfe', '2x2']).default('twfe'), phases: z.array(periodSchema).max(20).optional() }).optional(),
   its: itsOptionsSchema.optional(),
+  inference: inferenceSchema.optional(),
+  synthetic: z.strictObject({ covariates: z.array(measureKeySchema).max(30).default([]) }).optional(),
+  /** Estimate each later intervention of the treated jurisdiction separately (its breaks, did phases). */
+  interventions: z.enum(['first', 'each']).optional(),
   fixedEffects: z.enum(['two-way', 'unit']).optional(),
   cluster: z.enum(['unit', 'none']).optional(),
   smallSample: z.enum(smallSampleChoices).optional(),
@@ -163,4 +174,12 @@ export interface PoolRow extends Omit<DonorScoreRow, 'unit' | 'exclusions'> {
   decided: boolean
   reason: string | null
   suggested: boolean
+  /** Why the unit is in the suggested pool, in plain words (null when it is not suggested). */
+  suggestedReason: string | null
+  /**
+   * Its weight in the weighted comparison fitted on the pre-period against every unflagged
+   * candidate (0 to 1, the weights sum to 1); null for flagged candidates, candidates left out
+   * of the fit, or when no weights can be fitted.
+   */
+  weight: number | null
 }

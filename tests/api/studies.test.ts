@@ -10,6 +10,7 @@ import { as, Client, DEMO_PASSWORD } from '../support/http'
 import { closePool, sql } from '../support/db'
 import { runTag } from '../support/uploads'
 import { estimate } from '../../server/engine'
+import { SUGGESTED_POOL_SIZE } from '../../shared/schemas/studies'
 import { fingerprintRows } from '../../server/services/studies/fingerprint'
 import { ADOPTED, FIRST_ADOPTER, LATER_ADOPTERS, OUTCOME, RELATED_ADOPTER, STRENGTHENED, TRUE_EFFECT, demoNeighbours } from '../../db/seed/demoScenario'
 import { readRowsBack } from '../support/studies'
@@ -114,7 +115,7 @@ describe('the demo study', () => {
   it('scores every candidate and flags related policies, neighbours and missing data', async () => {
     const res = await reviewer.get(`/api/studies/${id}/candidates`)
     expect(res.status, JSON.stringify(res.body)).toBe(200)
-    const rows = res.body.rows as { jurisdiction: string, rmspe: number, rank: number, exclusions: { reason: string }[], included: boolean, region: string }[]
+    const rows = res.body.rows as { jurisdiction: string, rmspe: number, rank: number, exclusions: { reason: string }[], included: boolean, region: string, suggested: boolean, suggestedReason: string | null }[]
     expect(rows).toHaveLength(59)
     expect(rows.every(r => typeof r.rmspe === 'number' && r.region)).toBe(true)
     const reasons = (code: string) => rows.find(r => r.jurisdiction === code)!.exclusions.map(e => e.reason)
@@ -124,11 +125,13 @@ describe('the demo study', () => {
     const neighbours = demoNeighbours().filter(([a, b]) => a === FIRST_ADOPTER || b === FIRST_ADOPTER).map(([a, b]) => (a === FIRST_ADOPTER ? b : a))
     expect(neighbours.length).toBeGreaterThan(0)
     for (const n of neighbours) expect(reasons(n)).toContain('neighbour')
-    // before any decision the pool is the suggested one: the 10 best unflagged by composite rank
-    const suggested = rows.filter(r => r.exclusions.length === 0).sort((a, b) => a.rank - b.rank).slice(0, 10).map(r => r.jurisdiction)
+    // before any decision the pool is the suggested one: 10 unflagged units close in pre-period trend, each with its reason
+    const suggested = rows.filter(r => r.suggested).map(r => r.jurisdiction)
+    expect(suggested).toHaveLength(SUGGESTED_POOL_SIZE)
+    expect(rows.filter(r => r.suggested).every(r => r.exclusions.length === 0 && /^tracks the treated unit's pre-period trend/.test(r.suggestedReason ?? ''))).toBe(true)
     expect(res.body.summary.suggested.sort()).toEqual([...suggested].sort())
     expect(rows.filter(r => r.included).map(r => r.jurisdiction).sort()).toEqual([...suggested].sort())
-    expect(res.body.summary.poolSize).toBe(10)
+    expect(res.body.summary.poolSize).toBe(SUGGESTED_POOL_SIZE)
     expect(res.body.summary.balance[0]).toMatchObject({ measure: OUTCOME, treated: expect.any(Number), pool: expect.any(Number) })
   })
 
@@ -192,8 +195,17 @@ describe('the demo study', () => {
     expect(res.status, JSON.stringify(res.body)).toBe(201)
     const run = res.body
     expect(run).toMatchObject({ id: expect.any(Number), fingerprint: expect.stringMatching(/^[0-9a-f]{64}$/), createdAt: expect.any(String), compare: null })
-    const effect = run.result.effect
-    console.log(`did on the demo: ${effect.estimate.toFixed(3)} [${effect.ciLow.toFixed(3)}, ${effect.ciHigh.toFixed(3)}], true ${TRUE_EFFECT.adoption}; ${ms} ms`)
+    // one treated unit and a handful of donors: placebo units by default, and too few of them
+    // to bound a 95% interval, which the result says rather than pretending
+    expect(run.result.inference).toMatchObject({ method: 'permutation', seed: null, enumerated: true })
+    expect(run.spec.inference).toEqual({ method: 'auto', level: 0.95, draws: 9999, seed: 1 })
+    const nPlacebos = run.result.inference.draws
+    expect(nPlacebos).toBeLessThan(19)
+    expect(run.result.effect.ciLow).toBeNull()
+    expect(run.result.warnings.join(' ')).toContain(`smallest possible p-value is 1/${nPlacebos + 1}`)
+    const modelBased = await analyst.post(`/api/studies/${id}/runs`, { design: 'did', options: { inference: { method: 'analytic' } } })
+    const effect = modelBased.body.result.effect
+    console.log(`did on the demo: ${effect.estimate.toFixed(3)} [${effect.ciLow.toFixed(3)}, ${effect.ciHigh.toFixed(3)}] (model-based), true ${TRUE_EFFECT.adoption}; ${ms} ms`)
     expect(effect.ciLow).toBeLessThan(TRUE_EFFECT.adoption)
     expect(effect.ciHigh).toBeGreaterThan(TRUE_EFFECT.adoption)
 
@@ -201,7 +213,10 @@ describe('the demo study', () => {
     expect(rows.length).toBe(run.result.nObs)
     expect(fingerprintRows(rows, run.spec)).toBe(run.fingerprint)
     const engine = estimate({ rows: rows.map(r => ({ unit: r.jurisdiction, period: r.period, values: r.values })) }, run.spec)
-    expect(run.result).toEqual(JSON.parse(JSON.stringify(engine)))
+    // the server adds one caution the engine cannot know (the study's later intervention); the numbers are the engine's
+    const serverNote = (w: string) => w.startsWith('The treated period spans a later intervention')
+    expect(run.result.warnings.some(serverNote)).toBe(true)
+    expect({ ...run.result, warnings: run.result.warnings.filter((w: string) => !serverNote(w)) }).toEqual(JSON.parse(JSON.stringify(engine)))
 
     const [stored] = await sql('SELECT design, fingerprint, release_ids, spec FROM study_runs WHERE id = $1', [run.id])
     expect(stored).toMatchObject({ design: 'did', fingerprint: run.fingerprint, spec: run.spec })
@@ -211,17 +226,33 @@ describe('the demo study', () => {
     const again = await analyst.post(`/api/studies/${id}/runs`, { design: 'did' })
     expect(again.body.fingerprint).toBe(run.fingerprint)
     expect(again.body.compare).toMatchObject({ previousId: run.id, estimateDelta: 0, dataChanged: false })
+    expect(again.body.result).toEqual(run.result)
     const list = await reviewer.get(`/api/studies/${id}/runs`)
-    expect(list.body.map((r: { id: number }) => r.id)).toEqual([again.body.id, run.id])
+    expect(list.body.map((r: { id: number }) => r.id)).toEqual([again.body.id, modelBased.body.id, run.id])
     expect((await reviewer.get(`/api/studies/${id}/runs/${run.id}`)).body.result).toEqual(run.result)
   })
 
   it('every design runs; engine refusals come back as 400 with the engine\'s words', async () => {
-    for (const design of ['event_study', 'its', 'pre_post']) {
+    for (const design of ['event_study', 'its', 'pre_post', 'synthetic']) {
       const res = await analyst.post(`/api/studies/${id}/runs`, { design })
       expect(res.status, `${design}: ${JSON.stringify(res.body)}`).toBe(201)
       expect(res.body.result.design).toBe(design)
+      expect(res.body.result.inference.reason.length).toBeGreaterThan(20)
     }
+    const cits = await analyst.post(`/api/studies/${id}/runs`, { design: 'its', options: { its: { comparison: 'mean' }, interventions: 'first' } })
+    expect(cits.status, JSON.stringify(cits.body)).toBe(201)
+    expect(cits.body.result.comparison.kind).toBe('mean')
+    expect(cits.body.result.inference.method).toBe('permutation')
+    // an inference method that cannot run, or too many draws: 400 naming the problem and the alternative
+    const single = await analyst.post(`/api/studies/${id}/runs`, { design: 'its', options: { inference: { method: 'permutation' } } })
+    expect(single.status).toBe(400)
+    expect(single.body.message).toMatch(/cannot run: a single series has no comparison units.*use "analytic"/)
+    const many = await analyst.post(`/api/studies/${id}/runs`, { design: 'did', options: { inference: { draws: 10_000_000 } } })
+    expect(many.status).toBe(400)
+    expect(JSON.stringify(many.body)).toMatch(/at most 100,000/)
+    const weighted = await analyst.post(`/api/studies/${id}/runs`, { design: 'synthetic', options: { inference: { method: 'analytic' } } })
+    expect(weighted.status).toBe(400)
+    expect(weighted.body.message).toMatch(/use "permutation"/)
     const bad = await analyst.post(`/api/studies/${id}/runs`, { design: 'event_study', options: { eventWindow: { from: -3, to: 3, reference: -9 } } })
     expect(bad.status).toBe(400)
     const unknown = await analyst.post(`/api/studies/${id}/runs`, { design: 'did', options: { treated: ['X'] } })

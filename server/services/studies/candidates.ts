@@ -6,10 +6,13 @@
  *   neighbour       borders a treated jurisdiction: spillover (diffusion) is likely
  *   missing_data    more than `maxMissing` of the pre-periods have no value
  * plus any exclusion the engine reports. A unit is in the pool when the analyst's saved
- * decision says so, otherwise when it is in the suggested pool: the k best by composite
- * rank among the unflagged (k = 10 unless asked). Balance: pre-period means, treated
- * against pool.
+ * decision says so, otherwise when it is in the suggested pool (suggestedPool.ts: among the
+ * unflagged, those close to the treated unit's pre-period trend, then the k with the best
+ * demeaned fit; k = SUGGESTED_POOL_SIZE, 20, unless asked), each with the reason in plain words. Each candidate
+ * also carries its weight in the weighted comparison fitted on the pre-period against every
+ * unflagged candidate (poolWeights.ts). Balance: pre-period means, treated against pool.
  */
+import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
 import { eq, inArray, or } from 'drizzle-orm'
 import { jurisdictionNeighbours, jurisdictions, policyEvents, studyPoolDecisions } from '~~/db/schema'
 import { scoreDonors, isEngineError, type DonorScores } from '~~/server/engine'
@@ -19,6 +22,8 @@ import type { StudyRow } from './fingerprint'
 import { engineRows, readStudyRows, OUTCOME, type RowSource, type StudyRows } from './rows'
 import { studySpecBase, startsOf } from './spec'
 import type { StudyRecord } from './runData'
+import { poolWeights, type PoolWeights } from './poolWeights'
+import { suggestPool } from './suggestedPool'
 
 export type Exclusion = PoolRow['exclusions'][number]
 
@@ -36,6 +41,8 @@ export interface CandidateContext {
   info: Map<string, { name: string, kind: string, region: string | null }>
   prePeriods: Set<string>
   maxMissing: number
+  /** Weighted-comparison weights against every unflagged candidate (see poolWeights.ts). */
+  weights: PoolWeights
 }
 
 export function studySource(study: StudyRecord, units: string[] = []): RowSource {
@@ -144,7 +151,14 @@ async function buildCandidateContext(study: StudyRecord, maxMissing: number): Pr
     if (s.missingShare > maxMissing) list.push({ reason: 'missing_data', detail: `${Math.round(s.missingShare * 100)}% of pre-periods have no value (limit ${Math.round(maxMissing * 100)}%)` })
     for (const x of s.exclusions) if (!list.some(y => y.reason === x.reason)) list.push(x)
   }
-  return { study, source, data, scores, candidates, flags, info, prePeriods: new Set(scores.prePeriods), maxMissing }
+  const weights = poolWeights({
+    rows: data.rows,
+    treated: study.treated,
+    donors: candidates.filter(c => !flags.get(c)!.length),
+    prePeriods: scores.prePeriods,
+    transform: study.transform,
+  })
+  return { study, source, data, scores, candidates, flags, info, prePeriods: new Set(scores.prePeriods), maxMissing, weights }
 }
 
 function sameFrequencyWithin(p: string, from: string, to: string): boolean {
@@ -166,13 +180,17 @@ export async function poolDecisions(studyId: number) {
     .where(eq(studyPoolDecisions.studyId, studyId))
 }
 
-/** The candidate table with decisions applied, the suggested pool and the balance summary. */
-export function assemblePool(ctx: CandidateContext, decisions: { jurisdiction: string, included: boolean, reason: string | null }[], k = 10) {
+const PERIOD_WORDS: Record<string, string> = { month: 'month', quarter: 'quarter', year: 'year', week: 'week', day: 'day' }
+
+/** The candidate table with decisions applied, the suggested pool, the weights and the balance summary. */
+export function assemblePool(ctx: CandidateContext, decisions: { jurisdiction: string, included: boolean, reason: string | null }[], k = SUGGESTED_POOL_SIZE) {
   const byCode = new Map(decisions.map(d => [d.jurisdiction, d]))
-  const unflaggedByRank = ctx.scores.rows
-    .filter(s => ctx.flags.has(s.unit) && !ctx.flags.get(s.unit)!.length)
-    .sort((a, b) => (a.rank ?? Infinity) - (b.rank ?? Infinity))
-  const suggested = new Set(unflaggedByRank.slice(0, k).map(s => s.unit))
+  const choice = suggestPool(
+    ctx.scores.rows.filter(s => ctx.flags.has(s.unit)).map(s => ({ unit: s.unit, flagged: ctx.flags.get(s.unit)!.length > 0, rmspeDemeaned: s.rmspeDemeaned, slopeDiff: s.slopeDiff })),
+    k,
+    PERIOD_WORDS[ctx.data.frequency] ?? 'period',
+  )
+  const suggested = new Set(choice.pool)
   const rows: PoolRow[] = ctx.scores.rows.filter(s => ctx.flags.has(s.unit)).map((s) => {
     const exclusions = ctx.flags.get(s.unit)!
     const d = byCode.get(s.unit)
@@ -196,6 +214,8 @@ export function assemblePool(ctx: CandidateContext, decisions: { jurisdiction: s
       decided: !!d,
       reason: d?.reason ?? null,
       suggested: suggested.has(s.unit),
+      suggestedReason: choice.reasons.get(s.unit) ?? null,
+      weight: ctx.weights.weights.get(s.unit) ?? null,
     }
   })
   rows.sort((a, b) => (a.rank ?? Infinity) - (b.rank ?? Infinity) || (a.jurisdiction < b.jurisdiction ? -1 : 1))
@@ -207,7 +227,15 @@ export function assemblePool(ctx: CandidateContext, decisions: { jurisdiction: s
       poolSize: pool.length,
       flagged: rows.filter(r => r.flagged).length,
       overridden: rows.filter(r => r.flagged && r.included).length,
-      suggested: [...suggested],
+      suggested: choice.pool,
+      suggestion: { rule: choice.rule, note: choice.note, slopeLimit: choice.slopeLimit, eligible: choice.eligible, passed: choice.passed },
+      weights: {
+        fitted: ctx.weights.weights.size > 0,
+        positive: [...ctx.weights.weights.values()].filter(w => w > 0).length,
+        rmspePre: ctx.weights.rmspePre,
+        periods: ctx.weights.periods,
+        note: ctx.weights.note,
+      },
       treated: ctx.study.treated,
       prePeriods: ctx.scores.prePeriods.length,
       balance: balance(ctx, pool),
@@ -253,7 +281,7 @@ export function balance(ctx: CandidateContext, pool: string[]): BalanceRow[] {
 }
 
 /** Codes of the pool as decided (saved decisions, else the suggested pool). */
-export function includedPool(ctx: CandidateContext, decisions: { jurisdiction: string, included: boolean, reason: string | null }[], k = 10): string[] {
+export function includedPool(ctx: CandidateContext, decisions: { jurisdiction: string, included: boolean, reason: string | null }[], k = SUGGESTED_POOL_SIZE): string[] {
   return assemblePool(ctx, decisions, k).rows.filter(r => r.included).map(r => r.jurisdiction)
 }
 

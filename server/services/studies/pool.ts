@@ -4,6 +4,7 @@
  * upserted, audit-logged with the decisions before and after, and the re-scored table is
  * returned with a preview of the did estimate on the new pool.
  */
+import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
 import { eq, inArray, sql } from 'drizzle-orm'
 import { jurisdictions, studies, studyPoolDecisions } from '~~/db/schema'
 import type { z } from 'zod'
@@ -15,7 +16,7 @@ import { engineRows } from './rows'
 import { buildRunSpec } from './spec'
 import type { StudyRecord } from './runData'
 
-export async function savePool(study: StudyRecord, user: SessionUser, body: z.output<typeof poolPutSchema>, k = 10) {
+export async function savePool(study: StudyRecord, user: SessionUser, body: z.output<typeof poolPutSchema>, k = SUGGESTED_POOL_SIZE) {
   const ctx = await candidateContext(study)
   const issues: { path: string, message: string }[] = []
   const seen = new Set<string>()
@@ -53,18 +54,32 @@ export async function savePool(study: StudyRecord, user: SessionUser, body: z.ou
 /**
  * A quick difference-in-differences on the rows already read, so the analyst sees at once
  * how the pool changes the estimate. Not stored: a run on the Estimates step is the record.
+ * The effect carries the engine's headline inference (spec inference "auto": with one or a
+ * few treated units, placebo units; DESIGN.md "honest inference"), so ciLow and ciHigh are
+ * null when the pool is too small for the placebos to bound the effect at 95% (fewer than
+ * 19 comparison units for one treated unit). `inference` says which method stands behind p
+ * and the interval, and why.
  */
 export function previewEstimate(ctx: CandidateContext, pool: string[]) {
-  if (!pool.length) return { design: 'did' as const, effect: null, nClusters: null, warnings: [], error: 'The pool is empty.' }
+  const none = (error: string) => ({ design: 'did' as const, effect: null, nClusters: null, inference: null, warnings: [] as string[], error })
+  if (!pool.length) return none('The pool is empty.')
   const keep = new Set([...ctx.study.treated, ...pool])
   const rows = ctx.data.rows.filter(r => keep.has(r.jurisdiction))
   const periods = [...new Set(rows.map(r => r.period))].sort()
   try {
     const result = estimate({ rows: engineRows(rows) }, buildRunSpec(ctx.study, 'did', {}, pool, periods))
-    return { design: 'did' as const, effect: result.effect, nClusters: result.nClusters, warnings: result.warnings, error: null }
+    const inf = result.inference
+    return {
+      design: 'did' as const,
+      effect: result.effect,
+      nClusters: result.nClusters,
+      inference: inf ? { method: inf.method, reason: inf.reason, level: inf.level, p: inf.p, pMin: inf.pMin, draws: inf.draws } : null,
+      warnings: result.warnings,
+      error: null,
+    }
   }
   catch (e) {
     if (!isEngineError(e)) throw e
-    return { design: 'did' as const, effect: null, nClusters: null, warnings: [], error: e.message }
+    return none(e.message)
   }
 }

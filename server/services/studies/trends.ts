@@ -61,6 +61,7 @@ export function readLeadTest(result: EstimateResult | null) {
     lines.push(slope.p < 0.05
       ? `Before the policy the treated series' trend ran ${Math.abs(slope.estimate).toPrecision(3)} per period ${slope.estimate > 0 ? 'above' : 'below'} the pool's (p ${fmtP3Eq(slope.p)}): the trends diverge, and a difference-in-differences would count that divergence as effect.`
       : `The pre-period slopes differ by ${slope.estimate.toPrecision(3)} per period (p ${fmtP3Eq(slope.p)}), not a clear divergence.`)
+    if (!fReliable) lines.push('That slope p-value comes from cluster-robust errors, which run too small with few treated units: judge the divergence by its size in the gap chart as much as by p.')
   }
   return { wald, slopeDiff: slope, placebo, fReliable, reading: lines }
 }

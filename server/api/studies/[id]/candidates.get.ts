@@ -1,7 +1,8 @@
 /**
  * GET /api/studies/:id/candidates?k=10&maxMissing=0.2 — any signed-in user: every donor
- * candidate with its scores, ranks, automatic exclusion flags and pool decision, the
- * suggested pool (top k unflagged by composite rank) and the balance summary.
+ * candidate with its scores, ranks, weight in the weighted comparison, automatic exclusion
+ * flags and pool decision, the suggested pool (unflagged, close in pre-period trend, then the
+ * k best by demeaned fit; each with its reason) and the balance summary.
  */
 import { candidatesQuerySchema, studyIdParamSchema } from '#shared/schemas/studies'
 import { assemblePool, candidateContext, poolDecisions } from '../../../services/studies/candidates'
