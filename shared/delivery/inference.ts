@@ -36,7 +36,8 @@ export function inferenceText(result: Pick<EstimateResult, 'effect' | 'inference
   let analytic: string | null = null
   if (inf && inf.method !== 'analytic' && e.se !== null && e.df !== null) {
     const kind = result.vcov === 'hac' ? 'Newey-West' : result.vcov === 'cluster' ? 'cluster-robust' : 'model-based'
-    analytic = `analytic ${kind} SE ${num(e.se)} (shown for reference: too narrow with few treated units)`
+    const ci = inf.analytic ? `95% interval ${num(inf.analytic.ciLow)} to ${num(inf.analytic.ciHigh)}, ` : ''
+    analytic = `analytic (${kind}): ${ci}SE ${num(e.se)}; shown for reference, it runs too narrow with few treated units`
   }
   let limits: string | null = null
   if (inf?.pMin) {

@@ -117,6 +117,8 @@ export interface InferenceResult {
   /** Permutation: p-value of the post/pre RMSPE ratio, and the treated unit's own ratio. */
   pRatio: number | null
   ratio: number | null
+  /** The analytic (model-based) p and 95% interval of the headline, kept for reference where another method leads. */
+  analytic?: { p: number; ciLow: number; ciHigh: number } | null
   /** The smallest p-value the method can give: 1/(placebos + 1) or 1/draws. */
   pMin: number | null
   placebos: Placebo[] | null

@@ -148,7 +148,7 @@ describe('the demo study', () => {
     const ms = Date.now() - started
     expect(res.status, JSON.stringify(res.body)).toBe(200)
     // the reply is re-scored and carries a quick did estimate on the new pool
-    expect(res.body.preview).toMatchObject({ design: 'did', effect: { estimate: expect.any(Number) }, nClusters: 10, error: null })
+    expect(res.body.preview).toMatchObject({ design: 'did', effect: { estimate: expect.any(Number) }, nClusters: SUGGESTED_POOL_SIZE, error: null })
     console.log(`pool change on the demo (save, re-score, re-estimate): ${ms} ms`)
     expect(ms).toBeLessThan(2000)
     expect(res.body.rows.find((r: { jurisdiction: string }) => r.jurisdiction === donor)).toMatchObject({ included: false, decided: true, reason: 'a one-off plant closure in 2016' })

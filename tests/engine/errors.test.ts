@@ -75,8 +75,8 @@ describe('engine errors', () => {
       /transform "log": outcome "outcome" has 1 value <= 0, which have no logarithm \(first: unit "al", period 1984, value 0\)/,
     )
   })
-  it('staggered adoption refuses resampling inference', () => {
-    fails(() => estimate(syn.panel, { design: 'staggered', treated, start: 11, inference: { method: 'permutation' } }), 'invalid_spec', /inference\.method "permutation" is not available for design "staggered"/)
+  it('staggered adoption refuses the wild bootstrap (placebo adopters or influence functions instead)', () => {
+    fails(() => estimate(syn.panel, { design: 'staggered', treated, start: 11, inference: { method: 'wild_bootstrap' } }), 'invalid_spec', /inference\.method "wild_bootstrap" is not available for design "staggered": use "permutation"/)
   })
   it('bad periods and duplicate rows', () => {
     fails(() => estimate({ records: edit(fat.records, 4, { period: 'spring' }) }, { design: 'did', treatmentColumn: 'beertax' }), 'bad_period', /line 6, column "period": cannot read "spring" as a period/)

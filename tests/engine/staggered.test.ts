@@ -201,9 +201,9 @@ describe('multiplier bootstrap', () => {
   })
 
   it('is reproducible with its seed and moves with another seed', () => {
-    const a = estimate(c5.panel, staggeredSpec({ inference: { draws: 499, seed: 11 } }))
-    const b = estimate(c5.panel, staggeredSpec({ inference: { draws: 499, seed: 11 } }))
-    const c = estimate(c5.panel, staggeredSpec({ inference: { draws: 499, seed: 12 } }))
+    const a = estimate(c5.panel, staggeredSpec({ inference: { method: 'analytic', draws: 499, seed: 11 } }))
+    const b = estimate(c5.panel, staggeredSpec({ inference: { method: 'analytic', draws: 499, seed: 11 } }))
+    const c = estimate(c5.panel, staggeredSpec({ inference: { method: 'analytic', draws: 499, seed: 12 } }))
     expect(a.staggered!.byRelTime).toEqual(b.staggered!.byRelTime)
     expect(a.staggered!.byRelTime.map((x) => x.bandHigh)).not.toEqual(c.staggered!.byRelTime.map((x) => x.bandHigh))
     expect(a.inference!.reason).toMatch(/sup-t critical value \d\.\d{3} from 499 Rademacher multiplier draws \(seed 11\)/)
@@ -360,7 +360,7 @@ describe('refusals', () => {
     fails(() => estimate(hole, staggeredSpec()), 'invalid_spec', /cohort first treated in 5 has no comparison units at its base period 4; add never-treated units or use staggered\.comparison "not_yet"/)
   })
   it('options the design does not take', () => {
-    fails(() => estimate(c5.panel, staggeredSpec({ inference: { method: 'permutation' } })), 'invalid_spec', /inference\.method "permutation" is not available for design "staggered"/)
+    fails(() => estimate(c5.panel, staggeredSpec({ inference: { method: 'wild_bootstrap' } })), 'invalid_spec', /inference\.method "wild_bootstrap" is not available for design "staggered"/)
     fails(() => estimate(c5.panel, staggeredSpec({ covariates: ['d'] })), 'invalid_spec', /without covariates/)
     fails(() => estimate(c5.panel, staggeredSpec({ window: { pre: [1, 4], post: [5, 12] } })), 'invalid_spec', /remove the window/)
     fails(() => estimate(c5.panel, { design: 'staggered', treated: adopters }), 'invalid_spec', /needs the first treated period/)

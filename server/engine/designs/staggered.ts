@@ -593,9 +593,8 @@ export function estimateStaggered(panel: Panel, spec: Spec): EstimateResult {
   if (spec.covariates.length) throw new EngineError('invalid_spec', `design "staggered" compares outcomes without covariates (unconditional parallel trends); remove covariates ${listSome(spec.covariates)} or use "did" or "event_study"`)
   if (spec.treatmentColumn) throw new EngineError('invalid_spec', 'design "staggered" reads adoption from treated and start (a map unit -> first treated period); it does not take a treatmentColumn')
   if (spec.window) throw new EngineError('invalid_spec', 'design "staggered" uses every period (each cohort against its own base period); remove the window')
-  const method = spec.inference.method
-  if (method === 'permutation' || method === 'wild_bootstrap') {
-    throw new EngineError('invalid_spec', `inference.method "${method}" is not available for design "staggered": its errors come from influence functions (normal reference); use "auto" or "analytic"`)
+  if (spec.inference.method === 'wild_bootstrap') {
+    throw new EngineError('invalid_spec', 'inference.method "wild_bootstrap" is not available for design "staggered": use "permutation" (placebo adopters), "analytic" (influence functions) or "auto"')
   }
   if (spec.start !== undefined && typeof spec.start === 'object') unitIndices(panel, Object.keys(spec.start), 'start')
   if (spec.clusterColumn) warnings.push(`clusterColumn "${spec.clusterColumn}" is not used: staggered errors come from unit-level influence functions`)
@@ -673,7 +672,9 @@ export function estimateStaggered(panel: Panel, spec: Spec): EstimateResult {
   const bandNote = Number.isFinite(critical)
     ? `; the bands by relative time use the sup-t critical value ${critical.toFixed(3)} from ${spec.inference.draws} Rademacher multiplier draws (seed ${spec.inference.seed})`
     : ''
-  const inference: InferenceResult = {
+  // with "analytic" the influence-function interval is the headline; otherwise the shared
+  // inference step (inference/apply.ts) chooses, e.g. placebo adopters when few units adopt
+  const inference: InferenceResult | null = spec.inference.method !== 'analytic' ? null : {
     method: 'analytic',
     reason: `group-time effects: the overall effect's error comes from unit-level influence functions, with a normal reference${bandNote}`,
     level,

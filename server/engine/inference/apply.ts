@@ -195,7 +195,8 @@ function runPlacebos(panel: Panel, spec: Spec, result: EstimateResult, roles: Ro
           spec.design === 'its' || spec.start === undefined || typeof spec.start !== 'object'
             ? spec.start
             : Object.fromEntries(fakeNames.map((f, i) => [f, startValue(treated[i])])),
-        inference: { ...spec.inference, method: 'analytic' },
+        // analytic inside each placebo, and the fewest band draws (staggered): only the estimate is used
+        inference: { ...spec.inference, method: 'analytic', draws: 99 },
       }
       try {
         const r = refit(placeboSpec)
@@ -297,6 +298,8 @@ export function applyInference(panel: Panel, spec: Spec, result: EstimateResult,
   if (choice.method === 'permutation') inference = permutation(panel, spec, result, roles, choice, refit)
   else if (choice.method === 'wild_bootstrap') inference = didWildBootstrap(panel, spec, result, choice)
   else inference = analytic(result, choice, spec.inference.level)
+  const e = result.effect
+  if (inference.method !== 'analytic' && e.ciLow !== null && e.ciHigh !== null) inference.analytic = { p: e.p, ciLow: e.ciLow, ciHigh: e.ciHigh }
   if (inference.method !== 'analytic') {
     result.effect.p = inference.p
     result.effect.ciLow = inference.ciLow

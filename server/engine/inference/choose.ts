@@ -98,7 +98,7 @@ export function chooseInference(spec: Spec, s: Situation): Choice {
     if (!canPermute(s)) {
       return {
         method: 'permutation',
-        reason: `${plural(s.nTreated, 'treated unit')}: cluster-robust intervals are far too narrow with so few, so each ${s.nTreated === 1 ? 'comparison unit' : `set of ${s.nTreated} comparison units`} in turn plays the treated ${s.nTreated === 1 ? 'unit' : 'units'} with the others as its pool`,
+        reason: `${plural(s.nTreated, 'treated unit')}: model-based (cluster-robust) intervals are far too narrow with so few, so each ${s.nTreated === 1 ? 'comparison unit' : `set of ${s.nTreated} comparison units`} in turn plays the treated ${s.nTreated === 1 ? 'unit' : 'units'} with the others as its pool`,
       }
     }
     if (!canBootstrap(s)) return { method: 'wild_bootstrap', reason: `${plural(treatedClusters, 'treated cluster')} and too few comparison units for placebos: the wild cluster bootstrap` }

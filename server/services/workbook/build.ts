@@ -268,6 +268,7 @@ function inferenceSheet(wb: Book, r: EstimateResult, labels: Record<string, stri
     ['Smallest possible p-value', inf.pMin],
     ['p-value of the RMSPE ratio', inf.pRatio],
     ['Treated unit\'s RMSPE ratio', inf.ratio],
+    ['Analytic 95% interval, for reference', inf.analytic ? `${inf.analytic.ciLow} to ${inf.analytic.ciHigh} (p ${inf.analytic.p})` : ''],
   ]
   for (const [k, v] of rows) line(ws, [k, cellValue(v), null])
   for (const [term, t] of Object.entries(inf.terms ?? {})) {
