@@ -43,8 +43,9 @@ export function readLeadTest(result: EstimateResult | null) {
   const fReliable = result?.inference?.method === 'analytic' && (result.nClusters ?? 0) >= 30
   const lines: string[] = []
   if (placebo) {
-    lines.push(placebo.p < 0.05
-      ? `Before the policy the treated unit's lead coefficients were larger than almost every placebo unit's (p ${fmtP3Eq(placebo.p)} from ${placebo.nPlacebos} placebo units): it already moved differently from its pool, so the parallel-trends assumption is in doubt. Look at which periods differ before relying on the estimate.`
+    // the treated unit at the top of the ranking is unusual even where 1/(n + 1) is just 0.05
+    lines.push(placebo.p <= 0.05 + 1e-9 || placebo.p <= placebo.pMin + 1e-12
+      ? `Before the policy the treated unit's lead coefficients were ${placebo.p <= placebo.pMin + 1e-12 ? 'larger than every' : 'larger than almost every'} placebo unit's (p ${fmtP3Eq(placebo.p)} from ${placebo.nPlacebos} placebo units, the smallest p they allow is ${placebo.pMin.toFixed(3)}): it already moved differently from its pool, so the parallel-trends assumption is in doubt. Look at which periods differ before relying on the estimate.`
       : `Compared with ${placebo.nPlacebos} placebo units, the treated unit's leads are not unusual (p ${fmtP3Eq(placebo.p)} by placebo units). This is consistent with parallel pre-trends, but it does not prove them.`)
     if (wald && !fReliable) lines.push(`The clustered F test (F = ${wald.F.toFixed(2)}, p ${fmtP3Eq(wald.p)}) is not a guide here: with few treated units its p-value is unreliable, so read the placebo comparison instead.`)
   }
@@ -113,7 +114,7 @@ export async function studyTrends(study: StudyRecord) {
   const seasonLength = freq === 'month' ? 12 : freq === 'quarter' ? 4 : 1
   if (nPre < Math.max(8, 2 * seasonLength)) warnings.push(`Short pre-period: ${nPre} period${nPre === 1 ? '' : 's'} before the start. Pre-trend checks have little power and seasonal patterns cannot be told from trends.`)
   const clusters = study.treated.length + pool.length
-  if (study.treated.length < 5 || clusters < 20) warnings.push(`Few clusters: ${study.treated.length} treated and ${pool.length} comparison jurisdiction${pool.length === 1 ? '' : 's'}. Clustered standard errors are unreliable with so few; read intervals and p-values as rough.`)
+  if (study.treated.length < 5 || clusters < 20) warnings.push(`Few clusters: ${study.treated.length} treated and ${pool.length} comparison jurisdiction${pool.length === 1 ? '' : 's'}. Clustered standard errors are unreliable with so few, so the estimates' intervals come from placebo units; with fewer than 19 comparison units even those cannot reach 5%.`)
   if (freq === 'month' || freq === 'quarter') {
     const share = seasonalShare(periods, treatedMean, freq)
     if (share !== null && share > 0.3) warnings.push(`Strong seasonality: the ${freq === 'month' ? 'month' : 'quarter'} of the year explains ${Math.round(share * 100)}% of the treated series' variation around its trend. Compare like seasons: interrupted time series needs seasonal terms; event-study leads near the start mix in seasonal swings.`)

@@ -44,6 +44,9 @@ describe('readLeadTest', () => {
     const placebo = readLeadTest({ preTrend: { wald: { ...wald, p: 0.001, F: 26.9 }, slopeDiff: null, leadPermutation: { p: 0.3, nPlacebos: 54, pMin: 1 / 55 } }, inference: { method: 'permutation' }, nClusters: 56 } as never)
     expect(placebo.reading[0]).toMatch(/not unusual \(p = 0\.300 by placebo units\)/)
     expect(placebo.reading[1]).toMatch(/is not a guide here/)
+    // at the top of 20 units the smallest p a placebo ranking allows is 0.05: that is unusual, not reassuring
+    const top = readLeadTest({ preTrend: { wald, slopeDiff: null, leadPermutation: { p: 0.05, nPlacebos: 19, pMin: 0.05 } }, inference: { method: 'permutation' }, nClusters: 20 } as never)
+    expect(top.reading[0]).toMatch(/larger than every placebo unit's .*in doubt/)
   })
 
   it('says when there is nothing to test', () => {
