@@ -12,7 +12,7 @@ import { EngineError, estimate } from '../../server/engine/index'
 import type { CsvRecord, TypedRow } from '../../server/engine/panel'
 import { fitLinearModel } from '../../server/engine/regression'
 import type { EstimateResult } from '../../shared/engine/result'
-import { type Expected, loadCase } from './helpers'
+import { type Expected, loadCase, fails } from './helpers'
 
 const c1 = loadCase('c1_synthetic_cits_two_breaks')
 const e = c1.expected
@@ -31,17 +31,6 @@ function closeP(got: number | null | undefined, exp: number, label: string): voi
   expect(diff <= 1e-6 * Math.abs(exp) || diff <= 1e-12, `${label}: got ${got}, expected ${exp}`).toBe(true)
 }
 
-function fails(f: () => unknown, code: string, message: RegExp): void {
-  let caught: unknown
-  try {
-    f()
-  } catch (err) {
-    caught = err
-  }
-  expect(caught, 'expected an EngineError').toBeInstanceOf(EngineError)
-  expect((caught as EngineError).message).toMatch(message)
-  expect((caught as EngineError).code).toBe(code)
-}
 
 /** Reference coefficient name -> ours (month_k is our season_k). */
 const ours = (ref: string) => ref.replace(/^month_/, 'season_')

@@ -59,7 +59,7 @@ export function unitsWith(panel: PanelInput, column: string): string[] {
 }
 
 /** Asserts that f throws an EngineError with this code and a message matching `message`. */
-export function fails(f: () => unknown, code: string, message: RegExp): void {
+export function fails(f: () => unknown, code: string, message: RegExp): EngineError {
   let caught: unknown
   try {
     f()
@@ -69,4 +69,5 @@ export function fails(f: () => unknown, code: string, message: RegExp): void {
   expect(caught, 'expected an EngineError').toBeInstanceOf(EngineError)
   expect((caught as EngineError).message).toMatch(message)
   expect((caught as EngineError).code).toBe(code)
+  return caught as EngineError
 }

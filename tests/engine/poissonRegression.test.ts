@@ -8,25 +8,13 @@ import { describe, expect, it } from 'vitest'
 import { pTwoSidedNormal, pTwoSidedT, tQuantileAt } from '../../server/engine/distributions'
 import { EngineError } from '../../server/engine/errors'
 import { Z975, exposureOffset, fitPoisson, rateRatio, rateRatios, separationDirection } from '../../server/engine/poissonRegression'
-import { loadCase, nearP } from './helpers'
+import { loadCase, nearP, fails } from './helpers'
 
 /** |got - exp| <= rel |exp| (+ a tiny absolute floor for values at 0). */
 function rel(got: number, exp: number, tol: number, label: string): void {
   expect(Math.abs(got - exp), `${label}: got ${got}, expected ${exp}`).toBeLessThanOrEqual(tol * Math.abs(exp) + 1e-300)
 }
 
-function fails(f: () => unknown, code: string, message: RegExp): EngineError {
-  let caught: unknown
-  try {
-    f()
-  } catch (e) {
-    caught = e
-  }
-  expect(caught, 'expected an EngineError').toBeInstanceOf(EngineError)
-  expect((caught as EngineError).message).toMatch(message)
-  expect((caught as EngineError).code).toBe(code)
-  return caught as EngineError
-}
 
 const ones = (n: number) => new Float64Array(n).fill(1)
 

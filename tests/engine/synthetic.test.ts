@@ -16,7 +16,7 @@ import { inversionInterval, ratioRankP, syntheticSeries } from '../../server/eng
 import type { CsvRecord, TypedRow } from '../../server/engine/panel'
 import { fitSimplexWeights } from '../../server/engine/synthWeights'
 import type { EstimateResult } from '../../shared/engine/result'
-import { loadCase, near } from './helpers'
+import { loadCase, near, fails } from './helpers'
 
 const c4 = loadCase('c4_gasoline_synth_sweden')
 const e = c4.expected
@@ -34,17 +34,6 @@ function seriesOf(unit: string, rows: CsvRecord[] = records): Float64Array {
 const nPre: number = e.n_pre
 const pre = (unit: string) => seriesOf(unit).subarray(0, nPre)
 
-function fails(f: () => unknown, code: string, message: RegExp): void {
-  let caught: unknown
-  try {
-    f()
-  } catch (err) {
-    caught = err
-  }
-  expect(caught, 'expected an EngineError').toBeInstanceOf(EngineError)
-  expect((caught as EngineError).message).toMatch(message)
-  expect((caught as EngineError).code).toBe(code)
-}
 
 /** c4's tolerance for weights: 1e-6 absolute. */
 function nearWeight(got: number | undefined, exp: number, label: string): void {
