@@ -203,11 +203,6 @@ describe('the demo study', () => {
     expect(nPlacebos).toBeLessThan(19)
     expect(run.result.effect.ciLow).toBeNull()
     expect(run.result.warnings.join(' ')).toContain(`smallest possible p-value is 1/${nPlacebos + 1}`)
-    const modelBased = await analyst.post(`/api/studies/${id}/runs`, { design: 'did', options: { inference: { method: 'analytic' } } })
-    const effect = modelBased.body.result.effect
-    console.log(`did on the demo: ${effect.estimate.toFixed(3)} [${effect.ciLow.toFixed(3)}, ${effect.ciHigh.toFixed(3)}] (model-based), true ${TRUE_EFFECT.adoption}; ${ms} ms`)
-    expect(effect.ciLow).toBeLessThan(TRUE_EFFECT.adoption)
-    expect(effect.ciHigh).toBeGreaterThan(TRUE_EFFECT.adoption)
 
     const rows = await readRowsBack(run.id)
     expect(rows.length).toBe(run.result.nObs)
@@ -227,8 +222,13 @@ describe('the demo study', () => {
     expect(again.body.fingerprint).toBe(run.fingerprint)
     expect(again.body.compare).toMatchObject({ previousId: run.id, estimateDelta: 0, dataChanged: false })
     expect(again.body.result).toEqual(run.result)
+    const modelBased = await analyst.post(`/api/studies/${id}/runs`, { design: 'did', options: { inference: { method: 'analytic' } } })
+    const effect = modelBased.body.result.effect
+    console.log(`did on the demo: ${effect.estimate.toFixed(3)} [${effect.ciLow.toFixed(3)}, ${effect.ciHigh.toFixed(3)}] (model-based), true ${TRUE_EFFECT.adoption}; ${ms} ms`)
+    expect(effect.ciLow).toBeLessThan(TRUE_EFFECT.adoption)
+    expect(effect.ciHigh).toBeGreaterThan(TRUE_EFFECT.adoption)
     const list = await reviewer.get(`/api/studies/${id}/runs`)
-    expect(list.body.map((r: { id: number }) => r.id)).toEqual([again.body.id, modelBased.body.id, run.id])
+    expect(list.body.map((r: { id: number }) => r.id)).toEqual([modelBased.body.id, again.body.id, run.id])
     expect((await reviewer.get(`/api/studies/${id}/runs/${run.id}`)).body.result).toEqual(run.result)
   })
 
