@@ -1,12 +1,13 @@
 /**
  * chart.js for the study workspace: registers only the parts the Trends and Estimates
- * charts use, and a small plugin that draws a dashed vertical line at each intervention
- * period (options.plugins.periodMarks.marks = [{ index, label }]).
+ * charts use (Filler shades bands), and a small plugin that draws a dashed vertical line at
+ * each intervention period (options.plugins.periodMarks.marks = [{ index, label }]).
  */
 import {
-  BarController, BarElement, CategoryScale, Chart, Legend, LinearScale, LineController, LineElement, PointElement, ScatterController, Tooltip,
+  BarController, BarElement, CategoryScale, Chart, Filler, Legend, LinearScale, LineController, LineElement, PointElement, ScatterController, Tooltip,
   type Plugin,
 } from 'chart.js'
+import type { StaggeredPalette } from '~/utils/reportCharts'
 
 export interface PeriodMark { index: number, label: string }
 
@@ -38,9 +39,19 @@ const periodMarks: Plugin = {
 let registered = false
 export function useStudyCharts() {
   if (!registered) {
-    Chart.register(LineController, LineElement, PointElement, BarController, BarElement, ScatterController, CategoryScale, LinearScale, Tooltip, Legend, periodMarks)
+    Chart.register(LineController, LineElement, PointElement, BarController, BarElement, ScatterController, CategoryScale, LinearScale, Tooltip, Legend, Filler, periodMarks)
     registered = true
   }
 }
 
 export const STUDY_COLOURS = { treated: '#b1502b', pool: '#2d6b5f', donor: 'rgba(74, 88, 94, 0.28)', gap: '#1e2a2f', ci: 'rgba(45, 107, 95, 0.35)' }
+
+/** The adoption charts of the Estimates step (event time, cohorts, two-by-two comparisons). */
+export const STUDY_STAGGERED_PALETTE: StaggeredPalette = {
+  estimate: STUDY_COLOURS.treated,
+  pre: '#6b777c',
+  band: 'rgba(177, 80, 43, 0.16)',
+  zero: STUDY_COLOURS.gap,
+  cohorts: ['#b1502b', '#2d6b5f', '#5b4a8b', '#b88a1b', '#3d6f98', '#8e3d5a', '#6b8a3a', '#4a585e'],
+  kinds: { treated_vs_never: STUDY_COLOURS.pool, earlier_vs_later: '#3d6f98', later_vs_earlier: STUDY_COLOURS.treated },
+}

@@ -17,7 +17,7 @@ const periodPair = z.tuple([periodValue, periodValue])
 
 export const designs = ['pre_post', 'its', 'did', 'event_study', 'staggered', 'synthetic'] as const
 /** Designs whose computation exists today; the others are refused with a clear message. */
-export const availableDesigns = ['pre_post', 'its', 'did', 'event_study', 'synthetic'] as const
+export const availableDesigns = ['pre_post', 'its', 'did', 'event_study', 'synthetic', 'staggered'] as const
 export const inferenceMethods = ['auto', 'analytic', 'permutation', 'wild_bootstrap'] as const
 /** Above this many draws a run is refused: 100,000 already puts a p-value's Monte Carlo error near 0.001. */
 export const MAX_DRAWS = 100_000

@@ -31,6 +31,7 @@ export const DESIGN_LABELS: Record<RunDesign, string> = {
   did: 'Difference-in-differences',
   event_study: 'Event study',
   synthetic: 'Weighted comparison (synthetic control)',
+  staggered: 'Adoption at different times (group-time effects)',
 }
 
 const text = (what: string, max: number) => z.string().trim().min(1, `Enter ${what}.`).max(max, `Keep ${what} under ${max} characters.`)

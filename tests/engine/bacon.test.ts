@@ -89,6 +89,14 @@ describe(`c6_synthetic_bacon: ${c6.source}`, () => {
     const did = estimate(c6.panel, { design: 'did', treated: Object.keys(start), start, inference: { method: 'analytic' } })
     expect(Math.abs(weighted - did.effect.estimate)).toBeLessThan(1e-10)
     close(did.effect.estimate, e.twfe_beta, 'did twfe')
+    // the did design attaches the same decomposition to its result, with the caution
+    expect(did.decomposition).toHaveLength(r.rows.length)
+    did.decomposition!.forEach((q, i) => {
+      expect(q.type).toBe(r.rows[i]!.type)
+      close(q.estimate, r.rows[i]!.estimate, `did decomposition ${i} estimate`)
+      close(q.weight, r.rows[i]!.weight, `did decomposition ${i} weight`)
+    })
+    expect(did.warnings.join(' ')).toMatch(/already-treated/)
   })
 
   it('warns about the weight of already-treated comparisons, in plain words', () => {

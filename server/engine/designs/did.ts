@@ -33,7 +33,8 @@
  * no treated rows from it on),
  * 'no_pre_periods', 'no_post_periods', and what the regression throws.
  */
-import type { EstimateResult, GroupMeans } from '../../../shared/engine/result'
+import type { DecompositionRow, EstimateResult, GroupMeans } from '../../../shared/engine/result'
+import { alreadyTreatedWarning, baconDecomposition, denseStart } from '../bacon'
 import type { Spec } from '../../../shared/engine/spec'
 import { EngineError } from '../errors'
 import { type Panel, periodLabel, periodOrdinal } from '../panel'
@@ -95,6 +96,31 @@ function phaseTerms(panel: Panel, spec: Spec, roles: Roles, sample: Sample): Ter
   return terms
 }
 
+/**
+ * Goodman-Bacon (2021) decomposition of the two-way estimate when starts differ (bacon.ts):
+ * only where it is defined, a balanced panel with two-way effects, a binary treatment, no
+ * covariates and no phases; otherwise a warning says why it is absent.
+ */
+function decompositionOf(panel: Panel, spec: Spec, roles: Roles, sample: Sample, phased: boolean, warnings: string[]): DecompositionRow[] | null {
+  const why = spec.covariates.length ? 'covariates' : phased ? 'phases' : spec.fixedEffects !== 'two-way' ? 'unit effects only' : sample.n !== sample.nUnits * sample.nPeriods ? 'an unbalanced panel' : null
+  if (why) {
+    warnings.push(`the decomposition of the two-way estimate into its two-by-two comparisons is not shown: it needs a balanced panel with two-way effects and no covariates or phases (this run has ${why})`)
+    return null
+  }
+  const { rows } = baconDecomposition({
+    y: sample.y,
+    unit: sample.unit,
+    nUnits: sample.nUnits,
+    period: sample.period,
+    nPeriods: sample.nPeriods,
+    start: Float64Array.from(sample.unitPanel, (u) => denseStart(sample.periodOrdinals, roles.start[u])),
+    label: (k) => periodLabel(panel, sample.periodOrdinals[k]),
+  })
+  const caution = alreadyTreatedWarning(rows)
+  if (caution) warnings.push(caution)
+  return rows
+}
+
 function covariateTerms(spec: Spec, sample: Sample): Term[] {
   return spec.covariates.map((c) => ({ name: c, values: sample.column(c) }))
 }
@@ -153,12 +179,14 @@ export function estimateDid(panel: Panel, spec: Spec): EstimateResult {
   })
   const binary = d.every((v) => v === 0 || v === 1)
   warnings.push(...clusterWarnings(spec, sample.nUnits, binary ? countTreatedUnits(sample, d) : null))
+  let decomposition: DecompositionRow[] | null = null
   if (!byColumn && roles.commonStart === null) {
-    warnings.push('treated units start at different periods: the two-way fixed-effects estimate mixes comparisons and can mislead when effects change over time (Goodman-Bacon 2021); compare with the event study')
+    warnings.push('treated units start at different periods: the two-way fixed-effects estimate mixes comparisons and can mislead when effects change over time (Goodman-Bacon 2021); the staggered design (group-time effects) avoids that')
+    decomposition = decompositionOf(panel, spec, roles, sample, phased, warnings)
   }
   const slopeDiff = byColumn ? null : preTrendSlopeDiff(panel, spec, roles, spec.covariates, warnings)
   const effect = { term: name, ...coefficientOf(fit, name) }
-  const result = makeResult(spec, sample, fit, covariance, effect, { preTrend: slopeDiff ? { wald: null, slopeDiff } : null }, warnings)
+  const result = makeResult(spec, sample, fit, covariance, effect, { preTrend: slopeDiff ? { wald: null, slopeDiff } : null, decomposition }, warnings)
   // each later phase's change from the phase before it: phase_k - phase_(k-1), with its SE
   for (let k = 2; k < treatmentTerms.length + 1; k++) {
     result.coefficients[`phase_${k}_vs_${k - 1}`] = linearCombination(fit, { [`phase_${k}`]: 1, [`phase_${k - 1}`]: -1 })

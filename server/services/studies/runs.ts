@@ -90,6 +90,9 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
     if (isEngineError(e)) badRequest(e.message)
     throw e
   }
+  if (design === 'staggered' && (study.window || study.covariates.length)) {
+    result.warnings.push(`Group-time effects use every period and no covariates, so the study's ${[study.window ? 'window' : '', study.covariates.length ? 'covariates' : ''].filter(Boolean).join(' and ')} ${study.window && study.covariates.length ? 'are' : 'is'} not applied in this run.`)
+  }
   const later = laterInterventions(study)
   const phases = (spec.did as { phases?: unknown[] } | undefined)?.phases
   if (design === 'did' && later.length && !phases?.length) {

@@ -47,7 +47,7 @@ const SPAN: Record<string, number> = { month: 12, quarter: 8, year: 5 }
 /** periods: the sorted canonical periods of the rows the run will read. */
 /** Whether a run of this design and options reads the pool (comparison units). */
 export function runUsesPool(design: RunDesign, options: RunOptions): boolean {
-  return design === 'did' || design === 'event_study' || design === 'synthetic' || (design === 'its' && !!options.its?.comparison && options.its.comparison !== 'none')
+  return design === 'did' || design === 'event_study' || design === 'synthetic' || design === 'staggered' || (design === 'its' && !!options.its?.comparison && options.its.comparison !== 'none')
 }
 
 /** Later interventions on the treated jurisdictions (after their start), sorted, without repeats. */
@@ -64,6 +64,11 @@ export function laterInterventions(study: Pick<StudyForSpec, 'treated' | 'start'
 export function buildRunSpec(study: StudyForSpec, design: RunDesign, options: RunOptions, comparison: string[], periods: string[]): SpecInput {
   const spec: SpecInput = { design, ...studySpecBase(study) }
   if (runUsesPool(design, options)) spec.comparison = comparison
+  if (design === 'staggered') {
+    // group-time effects use every period against each cohort's own base period, without covariates
+    delete spec.window
+    spec.covariates = []
+  }
   const inData = (p: string) => periods.length > 0 && p > periods[0]! && p <= periods[periods.length - 1]!
   if (design === 'did' && options.interventions === 'each' && !options.did?.phases) {
     const phases = laterInterventions(study).map(i => i.period).filter(inData)

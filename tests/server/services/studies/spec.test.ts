@@ -54,4 +54,10 @@ describe('buildRunSpec', () => {
     expect(spec.inference).toEqual({ method: 'permutation', seed: 7, draws: 999, level: 0.9 })
     expect(parseSpec(buildRunSpec(study, 'did', {}, pool, periods)).inference).toEqual({ method: 'auto', level: 0.95, draws: 9999, seed: 1 })
   })
+
+  it('staggered: the pool is the comparison; every period and no covariates', () => {
+    const spec = parseSpec(buildRunSpec({ ...study, treated: ['A', 'B'], start: { A: '2017-07', B: '2019-01' }, window: { pre: ['2012-01', '2017-06'], post: ['2017-07', '2019-12'] } }, 'staggered', {}, pool, periods))
+    expect(spec).toMatchObject({ design: 'staggered', comparison: pool, covariates: [], start: { A: '2017-07', B: '2019-01' } })
+    expect(spec.window).toBeUndefined()
+  })
 })
