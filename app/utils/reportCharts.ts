@@ -227,7 +227,7 @@ export function decompositionChart(rows: readonly DecompositionRow[] | null | un
           pointRadius: 6,
           pointHoverRadius: 8,
         })),
-        { label: `Two-way estimate ${fmtNumber(summary.weightedSum)}`, data: line, borderColor: palette.zero, backgroundColor: palette.zero, borderDash: [6, 3], borderWidth: 1.5, showLine: true, pointRadius: 0, pointHoverRadius: 0 },
+        { label: `Two-way estimate ${fmtNumber(summary.weightedSum)}`, data: line, borderColor: palette.zero, backgroundColor: palette.zero, borderDash: [6, 3], borderWidth: 1.5, showLine: true, pointRadius: 0, pointHoverRadius: 0, pointStyle: 'line' as const },
       ],
     },
     options: {
@@ -235,7 +235,7 @@ export function decompositionChart(rows: readonly DecompositionRow[] | null | un
       responsive: true,
       maintainAspectRatio: false,
       plugins: {
-        legend: { position: 'bottom' },
+        legend: { position: 'bottom', labels: { usePointStyle: true } },
         tooltip: {
           filter: item => (item.raw as DecompositionPoint).label !== 'two-way',
           callbacks: { label: (item) => {

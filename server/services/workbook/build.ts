@@ -5,8 +5,9 @@
  * exceljs' streaming writer, row by row, so a panel of hundreds of thousands of rows does
  * not sit in memory as cell objects (strings are written inline, not as shared strings).
  *
- * Sheets: Summary, Coefficients, Event study, Pre-trend tests, Donor pool, Panel rows,
- * Validity, Provenance. Numbers are number cells with number formats; every table has a
+ * Sheets: Summary, Coefficients, Inference, Weighted comparison, Group-time (staggered
+ * adoption), Decomposition (of a two-way estimate), Event study, Pre-trend tests, Donor pool,
+ * Panel rows, Validity, Provenance. Numbers are number cells with number formats; every table has a
  * frozen header row and set column widths.
  *
  * Formula injection: no cell is ever written as a formula. exceljs stores a JavaScript string
@@ -19,7 +20,7 @@ import ExcelJS from 'exceljs'
 import type { EstimateResult } from '../../../shared/engine/result'
 import { allCautions } from '../../../shared/delivery/cautions'
 import { guardFormula } from '../../../shared/delivery/formulaGuard'
-import { designLabel } from '../../../shared/delivery/labels'
+import { DECOMPOSITION_LABELS, designLabel } from '../../../shared/delivery/labels'
 import { METHOD_LABELS, breaksOfSpec, inferenceText, termLabels } from '../../../shared/delivery/inference'
 import { ASSESSMENT_LABELS, THREATS, type Assessment } from '../../../shared/schemas/validity'
 
@@ -101,7 +102,7 @@ export interface WorkbookInput {
   generated: { at: Date, by: string }
 }
 
-export const SHEETS = ['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Validity', 'Provenance'] as const
+export const SHEETS = ['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Group-time', 'Decomposition', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Validity', 'Provenance'] as const
 
 export const FORMATS = {
   estimate: '0.0000',
@@ -166,6 +167,7 @@ const VCOV_LABELS: Record<string, string> = {
   hac: 'Newey-West (autocorrelation-robust)',
   hc1: 'Heteroskedasticity-robust (HC1)',
   iid: 'Classical (iid)',
+  influence: 'Influence functions (unit sampling)',
 }
 
 function summary(wb: Book, input: WorkbookInput) {
@@ -306,6 +308,89 @@ function weightedComparison(wb: Book, r: EstimateResult) {
   return ws
 }
 
+/** A bold heading row inside a sheet, for a second or third table below the first. */
+function subHeading(ws: Sheet, headers: (string | null)[]): void {
+  line(ws, headers, (head) => {
+    head.font = { bold: true }
+    head.eachCell((cell) => { cell.border = { bottom: { style: 'thin' } } })
+  })
+}
+
+/** A row whose cells get the given number formats (null: leave the column's). */
+function formattedLine(ws: Sheet, values: CellValue[], formats: (string | null)[]): void {
+  line(ws, values.map(cellValue), (row) => {
+    formats.forEach((f, i) => { if (f) row.getCell(i + 1).numFmt = f })
+  })
+}
+
+/**
+ * Staggered adoption (Callaway and Sant'Anna 2021): every group-time cell ATT(g, t), then the
+ * effects by time since adoption with their simultaneous band, by cohort, and overall.
+ */
+function groupTime(wb: Book, r: EstimateResult) {
+  const s = r.staggered
+  const ws = table(wb, 'Group-time', [
+    { header: 'Cohort (adoption period)', width: 30 },
+    { header: 'Period', width: 14 },
+    { header: 'Periods since adoption', width: 22, format: FORMATS.count },
+    { header: 'Effect ATT(g, t)', width: 18, format: FORMATS.estimate },
+    { header: 'Standard error', width: 16, format: FORMATS.estimate },
+    { header: 'Cohort units', width: 14, format: FORMATS.count },
+    { header: 'Comparison units', width: 18, format: FORMATS.count },
+    { header: 'After adoption', width: 16 },
+  ], (s?.groupTime ?? []).map(c => [c.cohort, c.period, c.relTime, c.att, c.se, c.nCohort, c.nComparison, c.post ? 'yes' : c.relTime === -1 ? 'no (base period: 0 by construction)' : 'no']))
+  if (!s) {
+    line(ws, ['This run has no group-time effects: only the staggered-adoption design estimates them.'])
+    return ws
+  }
+  const level = Math.round((r.inference?.level ?? 0.95) * 100)
+  line(ws, [])
+  subHeading(ws, ['Periods since adoption', 'Estimate', 'Standard error', `${level}% simultaneous band, low`, `${level}% simultaneous band, high`])
+  for (const p of [...s.byRelTime].sort((a, b) => a.relTime - b.relTime)) {
+    formattedLine(ws, [p.relTime, p.estimate, p.se, p.bandLow, p.bandHigh], [FORMATS.count, FORMATS.estimate, FORMATS.estimate, FORMATS.estimate, FORMATS.estimate])
+  }
+  line(ws, [])
+  subHeading(ws, ['Cohort (adoption period)', 'Estimate (mean of its effects after adoption)', 'Standard error'])
+  for (const c of s.byCohort) formattedLine(ws, [c.cohort, c.estimate, c.se], [null, FORMATS.estimate, FORMATS.estimate])
+  line(ws, [])
+  formattedLine(ws, ['Overall (effects after adoption, weighted by cohort size)', s.overall.estimate, s.overall.se], [null, FORMATS.estimate, FORMATS.estimate])
+  line(ws, ['Comparison units', s.comparison === 'not_yet' ? 'never treated or not yet treated' : 'never treated'])
+  return ws
+}
+
+/**
+ * The two-by-two comparisons of a two-way estimate with varying starts (Goodman-Bacon 2021):
+ * every row, the weights' sum (1) and the weighted sum (the two-way estimate), and each kind's total.
+ */
+function decomposition(wb: Book, r: EstimateResult) {
+  const rows = r.decomposition ?? []
+  const ws = table(wb, 'Decomposition', [
+    { header: 'Comparison', width: 56 },
+    { header: 'Treated cohort', width: 16 },
+    { header: 'Compared with', width: 16 },
+    { header: 'Estimate', width: 14, format: FORMATS.estimate },
+    { header: 'Weight', width: 12, format: FORMATS.estimate },
+  ], rows.map(d => [DECOMPOSITION_LABELS[d.type], d.treated, d.control === 'never' ? 'never treated' : d.control, d.estimate, d.weight]))
+  if (!rows.length) {
+    line(ws, ['This run has no decomposition: it is made for a two-way difference-in-differences run whose treated units start at different periods.'])
+    return ws
+  }
+  const weightSum = rows.reduce((a, d) => a + d.weight, 0)
+  const weightedSum = rows.reduce((a, d) => a + d.weight * d.estimate, 0)
+  line(ws, [])
+  line(ws, ['Weights sum', null, null, null, weightSum], (row) => { row.font = { bold: true } })
+  line(ws, ['Weighted sum (the two-way estimate)', null, null, weightedSum, null], (row) => { row.font = { bold: true } })
+  line(ws, [])
+  subHeading(ws, ['Kind of comparison: weighted mean and total weight', 'Comparisons', null, 'Estimate', 'Weight'])
+  for (const type of ['treated_vs_never', 'earlier_vs_later', 'later_vs_earlier'] as const) {
+    const own = rows.filter(d => d.type === type)
+    if (!own.length) continue
+    const w = own.reduce((a, d) => a + d.weight, 0)
+    formattedLine(ws, [DECOMPOSITION_LABELS[type], own.length, null, w > 0 ? own.reduce((a, d) => a + d.weight * d.estimate, 0) / w : null, w], [null, FORMATS.count, null, null, null])
+  }
+  return ws
+}
+
 function eventStudy(wb: Book, r: EstimateResult) {
   const ws = table(wb, 'Event study', [
     { header: 'Periods from start', width: 18, format: FORMATS.count },
@@ -432,6 +517,8 @@ export async function buildWorkbook(input: WorkbookInput): Promise<Buffer> {
   coefficients(wb, input.run.result, labelsOf(input)).commit()
   inferenceSheet(wb, input.run.result, labelsOf(input)).commit()
   weightedComparison(wb, input.run.result).commit()
+  groupTime(wb, input.run.result).commit()
+  decomposition(wb, input.run.result).commit()
   eventStudy(wb, input.run.result).commit()
   preTrend(wb, input.run.result).commit()
   donorPool(wb, input.pool).commit()

@@ -45,6 +45,15 @@ function input(design: 'did' | 'event_study', overrides: Partial<WorkbookInput['
   }
 }
 
+/** The demo panel as staggered adoption: AA and BB adopt in 2004, CC in 2007; DD, EE and FF never. */
+function staggeredInput(): WorkbookInput {
+  const base = input('did')
+  const start = { AA: '2004', BB: '2004', CC: '2007' }
+  const spec = { design: 'staggered' as const, outcome: 'deaths', treated: ['AA', 'BB', 'CC'], start, inference: { method: 'analytic' as const } }
+  const result = estimate({ rows: base.rows }, spec)
+  return { ...base, study: { ...base.study, treated: spec.treated, start }, run: { ...base.run, design: 'staggered', spec, result } }
+}
+
 async function open(data: WorkbookInput) {
   const wb = new ExcelJS.Workbook()
   await wb.xlsx.load(await buildWorkbook(data) as unknown as ArrayBuffer)
@@ -190,6 +199,57 @@ describe('estimates workbook', () => {
         expect(cell.type, `${ws.name}!${cell.address}`).not.toBe(ExcelJS.ValueType.Formula)
       }))
     }
+  })
+
+  it('group-time: every cell of a staggered run, then the effects by time since adoption with bands, by cohort and overall', async () => {
+    const data = staggeredInput()
+    const s = data.run.result.staggered!
+    expect(s.groupTime.length).toBeGreaterThan(0)
+    const wb = await open(data)
+    const rows = tableRows(wb.getWorksheet('Group-time')!)
+    const cells = rows.slice(0, s.groupTime.length)
+    s.groupTime.forEach((c, i) => {
+      expect(cells[i]!.slice(0, 7)).toEqual([c.cohort, c.period, c.relTime, c.att, c.se, c.nCohort, c.nComparison])
+      expect(cells[i]![7]).toMatch(c.post ? /^yes$/ : /^no/)
+    })
+    const relStart = rows.findIndex(r => r[0] === 'Periods since adoption') + 1
+    expect(relStart).toBeGreaterThan(s.groupTime.length)
+    const byRel = [...s.byRelTime].sort((a, b) => a.relTime - b.relTime)
+    byRel.forEach((p, i) => {
+      expect(rows[relStart + i]!.slice(0, 3)).toEqual([p.relTime, p.estimate, p.se])
+      expect(rows[relStart + i]![3]).toBe(p.bandLow)
+      expect(rows[relStart + i]![4]).toBe(p.bandHigh)
+    })
+    const cohortStart = rows.findIndex(r => r[0] === 'Cohort (adoption period)') + 1
+    expect(rows.slice(cohortStart, cohortStart + s.byCohort.length)).toEqual(s.byCohort.map(c => [c.cohort, c.estimate, c.se]))
+    expect(rows.find(r => String(r[0]).startsWith('Overall'))!.slice(1)).toEqual([s.overall.estimate, s.overall.se])
+    expect(rows.find(r => r[0] === 'Comparison units')![1]).toBe('never treated')
+    expect(summaryCell(wb, 'Standard errors').value).toBe('Influence functions (unit sampling)')
+    // No decomposition in a staggered run: one plain line.
+    expect(tableRows(wb.getWorksheet('Decomposition')!)).toEqual([[expect.stringMatching(/^This run has no decomposition/)]])
+  })
+
+  it('decomposition: every two-by-two row, the weights sum and the weighted sum; a plain line where there is none', async () => {
+    const data = input('did')
+    // Invented rows: weights 0.5 + 0.3 + 0.2 = 1; weighted sum 0.5(-2) + 0.3(-1) + 0.2(1) = -1.1.
+    data.run.result = { ...data.run.result, decomposition: [
+      { type: 'treated_vs_never', treated: '2004', control: 'never', estimate: -2, weight: 0.5 },
+      { type: 'earlier_vs_later', treated: '2004', control: '2007', estimate: -1, weight: 0.3 },
+      { type: 'later_vs_earlier', treated: '2007', control: '2004', estimate: 1, weight: 0.2 },
+    ] }
+    const wb = await open(data)
+    const rows = tableRows(wb.getWorksheet('Decomposition')!)
+    expect(rows.slice(0, 3)).toEqual([
+      ['Adopters against never-treated units', '2004', 'never treated', -2, 0.5],
+      ['Earlier adopters against later ones, before those start', '2004', '2007', -1, 0.3],
+      ['Later adopters against already-treated earlier ones', '2007', '2004', 1, 0.2],
+    ])
+    expect(rows.find(r => r[0] === 'Weights sum')![4]).toBeCloseTo(1, 12)
+    expect(rows.find(r => r[0] === 'Weighted sum (the two-way estimate)')![3]).toBeCloseTo(-1.1, 12)
+    const late = rows.filter(r => r[0] === 'Later adopters against already-treated earlier ones')
+    expect(late[1]!.slice(1)).toEqual([1, undefined, 1, 0.2])
+    // A did run without varying starts has no group-time cells: one plain line.
+    expect(tableRows(wb.getWorksheet('Group-time')!)).toEqual([[expect.stringMatching(/^This run has no group-time effects/)]])
   })
 
   it('guards only risky text and names the file safely', () => {
