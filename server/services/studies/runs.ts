@@ -11,6 +11,7 @@ import type { RunCreate } from '#shared/schemas/studies'
 import { runCreateSchema } from '#shared/schemas/studies'
 import type { z } from 'zod'
 import { fingerprintRows } from './fingerprint'
+import { compareRuns } from './compareRuns'
 import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
 import { engineRows, readStudyRows } from './rows'
 import { buildRunSpec, laterInterventions, runUsesPool } from './spec'
@@ -32,21 +33,6 @@ const runColumns = {
   createdByName: users.name,
 }
 type RunRow = Omit<Run, 'data'> & { data: unknown, createdByName: string | null }
-
-/** Estimate, SE and data changes from the previous run of the same design. */
-export function compareRuns(run: Pick<RunRow, 'id' | 'fingerprint' | 'releaseIds' | 'result'>, previous: Pick<RunRow, 'id' | 'fingerprint' | 'releaseIds' | 'result'> | undefined) {
-  if (!previous) return null
-  const a = (run.result as unknown as EstimateResult).effect
-  const b = (previous.result as unknown as EstimateResult).effect
-  return {
-    previousId: previous.id,
-    estimateDelta: a.estimate - b.estimate,
-    seDelta: a.se !== null && b.se !== null ? a.se - b.se : null,
-    dataChanged: run.fingerprint !== previous.fingerprint,
-    releasesAdded: run.releaseIds.filter(id => !previous.releaseIds.includes(id)),
-    releasesDropped: previous.releaseIds.filter(id => !run.releaseIds.includes(id)),
-  }
-}
 
 function present(run: RunRow, previous?: RunRow) {
   const data = run.data as RunData

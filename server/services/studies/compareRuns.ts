@@ -1,0 +1,40 @@
+/** Comparing a run with the previous run of the same design. Pure. */
+import type { EstimateResult } from '#shared/engine/result'
+
+export interface ComparedRun {
+  id: number
+  fingerprint: string
+  releaseIds: number[]
+  result: unknown
+}
+
+/**
+ * What moved since the previous run of the same design: the estimate and SE (differences below
+ * display precision, 1e-9 of the estimate's size, read as 0), and what differs: the data (new or
+ * dropped releases, or other rows under the same spec), the pool, or the options (spec keys).
+ */
+export function compareRuns(run: ComparedRun & { spec?: unknown }, previous: (ComparedRun & { spec?: unknown }) | undefined) {
+  if (!previous) return null
+  const a = (run.result as EstimateResult).effect
+  const b = (previous.result as EstimateResult).effect
+  const tiny = (d: number, scale: number) => (Math.abs(d) <= 1e-9 * (1 + Math.abs(scale)) ? 0 : d)
+  const specA = (run.spec ?? {}) as Record<string, unknown>
+  const specB = (previous.spec ?? {}) as Record<string, unknown>
+  const same = (x: unknown, y: unknown) => JSON.stringify(x) === JSON.stringify(y)
+  const poolChanged = !same(specA.comparison, specB.comparison)
+  const optionsChanged = [...new Set([...Object.keys(specA), ...Object.keys(specB)])].filter(k => k !== 'comparison' && !same(specA[k], specB[k])).sort()
+  const releasesAdded = run.releaseIds.filter(id => !previous.releaseIds.includes(id))
+  const releasesDropped = previous.releaseIds.filter(id => !run.releaseIds.includes(id))
+  const dataChanged = releasesAdded.length > 0 || releasesDropped.length > 0 || (run.fingerprint !== previous.fingerprint && !poolChanged && optionsChanged.length === 0)
+  return {
+    previousId: previous.id,
+    estimateDelta: tiny(a.estimate - b.estimate, a.estimate),
+    seDelta: a.se !== null && b.se !== null ? tiny(a.se - b.se, a.se) : null,
+    dataChanged,
+    poolChanged,
+    optionsChanged,
+    releasesAdded,
+    releasesDropped,
+  }
+}
+
