@@ -634,7 +634,7 @@ export function estimateStaggered(panel: Panel, spec: Spec): EstimateResult {
     const off = gt.byRelTime.filter((r) => r.relTime < -1 && r.se > 0 && Math.abs(r.estimate) > critical * r.se).map((r) => r.relTime)
     if (off.length) {
       warnings.push(
-        `before adoption the cohorts already drift from their comparison units: the ${Math.round(level * 100)}% simultaneous band excludes zero at relative time${off.length > 1 ? 's' : ''} ${off.join(', ')}; the parallel-trends assumption behind these effects is in doubt`,
+        `before adoption the cohorts already drift from their comparison units: the ${Math.round(level * 100)}% simultaneous band excludes zero at ${off.length > 6 ? `${off.length} relative times from ${off[0]} to ${off[off.length - 1]}` : `relative time${off.length > 1 ? 's' : ''} ${off.join(', ')}`}; the parallel-trends assumption behind these effects is in doubt`,
       )
     }
   }

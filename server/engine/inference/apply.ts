@@ -287,7 +287,8 @@ function permutation(panel: Panel, spec: Spec, result: EstimateResult, roles: Ro
 function tidyWarnings(result: EstimateResult, method: InferenceResult['method']): void {
   if (method === 'analytic') return
   result.warnings = result.warnings.filter((w) => !/treated cluster.*cluster-robust errors may be unreliable/.test(w))
-  result.warnings.push(`the standard error shown (${result.vcov === 'hac' ? 'Newey-West' : 'cluster-robust'}) is the analytic one; the p-value and interval come from ${method === 'permutation' ? 'placebo units' : 'the wild cluster bootstrap'}`)
+  const kind = { hac: 'Newey-West', cluster: 'cluster-robust', influence: 'influence-function', hc1: 'heteroskedasticity-robust', iid: 'model-based' }[result.vcov] ?? 'model-based'
+  result.warnings.push(`the standard error shown (${kind}) is the analytic one; the p-value and interval come from ${method === 'permutation' ? 'placebo units' : 'the wild cluster bootstrap'}`)
 }
 
 export function applyInference(panel: Panel, spec: Spec, result: EstimateResult, refit: Refit): EstimateResult {
