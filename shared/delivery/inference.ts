@@ -79,7 +79,10 @@ export function termLabels(breaks: string[], interventions: InterventionRef[], s
 /** The periods behind the intervention terms of a stored spec. */
 export function breaksOfSpec(spec: { design?: unknown; start?: unknown; its?: { breaks?: unknown[] }; did?: { phases?: unknown[] } }): string[] {
   if (spec.design === 'its') return (spec.its?.breaks ?? (spec.start !== undefined && typeof spec.start !== 'object' ? [spec.start] : [])).map(String).sort()
-  const start = typeof spec.start === 'object' && spec.start !== null ? Object.values(spec.start as Record<string, string>).sort()[0] : spec.start
+  const starts = typeof spec.start === 'object' && spec.start !== null ? [...new Set(Object.values(spec.start as Record<string, string>).map(String))].sort() : null
+  // jurisdictions that start at different times have no one date to name the effect by
+  if (starts && starts.length > 1) return []
+  const start = starts ? starts[0] : spec.start
   if (start === undefined) return []
   return [String(start), ...(spec.did?.phases ?? []).map(String).sort()]
 }
