@@ -10,8 +10,9 @@ export interface ComparedRun {
 
 /**
  * What moved since the previous run of the same design: the estimate and SE (differences below
- * display precision, 1e-9 of the estimate's size, read as 0), and what differs: the data (new or
- * dropped releases, or other rows under the same spec), the pool, or the options (spec keys).
+ * display precision, 1e-9 of the estimate's size, read as 0), and what differs: the data (other
+ * rows under the same spec; new or dropped releases when the spec changed too), the pool, or the
+ * options (spec keys).
  */
 export function compareRuns(run: ComparedRun & { spec?: unknown }, previous: (ComparedRun & { spec?: unknown }) | undefined) {
   if (!previous) return null
@@ -25,7 +26,10 @@ export function compareRuns(run: ComparedRun & { spec?: unknown }, previous: (Co
   const optionsChanged = [...new Set([...Object.keys(specA), ...Object.keys(specB)])].filter(k => k !== 'comparison' && !same(specA[k], specB[k])).sort()
   const releasesAdded = run.releaseIds.filter(id => !previous.releaseIds.includes(id))
   const releasesDropped = previous.releaseIds.filter(id => !run.releaseIds.includes(id))
-  const dataChanged = releasesAdded.length > 0 || releasesDropped.length > 0 || (run.fingerprint !== previous.fingerprint && !poolChanged && optionsChanged.length === 0)
+  // under the same spec the fingerprint says it (a release that republishes the same values is
+  // no change); when the spec changed too, only other releases show that the data moved
+  const sameSpec = !poolChanged && optionsChanged.length === 0
+  const dataChanged = sameSpec ? run.fingerprint !== previous.fingerprint : releasesAdded.length > 0 || releasesDropped.length > 0
   return {
     previousId: previous.id,
     estimateDelta: tiny(a.estimate - b.estimate, a.estimate),

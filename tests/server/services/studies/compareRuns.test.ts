@@ -14,9 +14,10 @@ describe('compareRuns', () => {
   it('the pool changed', () => {
     expect(compareRuns(run(2, -0.9, { ...base, comparison: ['A'] }, 'f2'), run(1, -1, base, 'f1'))).toMatchObject({ poolChanged: true, dataChanged: false, optionsChanged: [] })
   })
-  it('a new release, or other rows under the same spec, is a data change', () => {
+  it('other rows under the same spec are a data change; a release that republishes the same values is not', () => {
     expect(compareRuns(run(2, -1, base, 'f2', [1, 2]), run(1, -1, base, 'f1', [1]))).toMatchObject({ dataChanged: true, releasesAdded: [2] })
+    expect(compareRuns(run(2, -1, base, 'f1', [2]), run(1, -1, base, 'f1', [1]))).toMatchObject({ dataChanged: false, releasesAdded: [2] })
     expect(compareRuns(run(2, -1, base, 'f2'), run(1, -1, base, 'f1'))).toMatchObject({ dataChanged: true, releasesAdded: [] })
-    expect(compareRuns(run(2, -1, base, 'f1'), run(1, -1, base, 'f1'))).toMatchObject({ dataChanged: false })
+    expect(compareRuns(run(2, -1, { ...base, comparison: ['A'] }, 'f2', [1, 2]), run(1, -1, base, 'f1', [1]))).toMatchObject({ dataChanged: true, poolChanged: true })
   })
 })
