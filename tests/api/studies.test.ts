@@ -276,3 +276,24 @@ describe('the demo study', () => {
     }
   })
 })
+
+describe('counts with their denominator as exposure', () => {
+  it('a rate study runs its interrupted time series as a count model with rate ratios; a level study is refused with the way out', async () => {
+    const created = await analyst.post('/api/studies', {
+      title: `Filings as counts, ${tag}`, outcome: 'eviction_filings', transform: 'rate', denominator: 'renter_households', treated: [FIRST_ADOPTER], start: ADOPTED,
+    })
+    expect(created.status, JSON.stringify(created.body)).toBe(201)
+    const res = await analyst.post(`/api/studies/${created.body.id}/runs`, { design: 'its', options: { its: { family: 'quasipoisson', comparison: 'none' } } })
+    expect(res.status, JSON.stringify(res.body)).toBe(201)
+    const r = res.body.result
+    expect(res.body.spec).toMatchObject({ outcome: 'count', its: { family: 'quasipoisson', exposure: 'exposure' } })
+    expect(r.countFit.dispersion).toBeGreaterThan(0)
+    expect(r.inference.method).toBe('analytic')
+    // the demo's first change is -0.8 per 1,000 on a rate of about 5: a rate ratio clearly below 1
+    expect(r.coefficients.level_1?.rateRatio ?? r.coefficients.level.rateRatio).toBeLessThan(1)
+    const levelStudy = await analyst.post('/api/studies', { title: `Filings as a level, ${tag}`, outcome: OUTCOME, treated: [FIRST_ADOPTER], start: ADOPTED })
+    const refused = await analyst.post(`/api/studies/${levelStudy.body.id}/runs`, { design: 'its', options: { its: { family: 'poisson', comparison: 'none' } } })
+    expect(refused.status).toBe(400)
+    expect(refused.body.message).toMatch(/count model needs the outcome recorded as a count with a denominator/)
+  })
+})

@@ -16,6 +16,8 @@ export interface RowSource {
   units: string[]
   from: string | null
   to: string | null
+  /** Also keep the raw count and its denominator per row (COUNT, EXPOSURE), for count models. */
+  counts?: boolean
 }
 
 export interface StudyRows {
@@ -27,6 +29,9 @@ export interface StudyRows {
 }
 
 export const OUTCOME = 'outcome'
+/** With RowSource.counts: the outcome measure as recorded (a count) and the denominator (the exposure). */
+export const COUNT = 'count'
+export const EXPOSURE = 'exposure'
 
 export async function readStudyRows(src: RowSource, releaseIds: number[] = []): Promise<StudyRows> {
   const pool = usePool()
@@ -54,6 +59,10 @@ export async function readStudyRows(src: RowSource, releaseIds: number[] = []): 
     if (den) {
       const d = den.get(`${r.jurisdiction}\u0000${r.period}`)
       row.values[OUTCOME] = d !== undefined && d > 0 ? (r.value / d) * 1000 : null
+      if (src.counts) {
+        row.values[COUNT] = r.value
+        row.values[EXPOSURE] = d !== undefined && d > 0 ? d : null
+      }
     }
     else row.values[OUTCOME] = r.value
   }

@@ -14,7 +14,7 @@ import { fingerprintRows } from './fingerprint'
 import { compareRuns } from './compareRuns'
 import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
 import { engineRows, readStudyRows } from './rows'
-import { buildRunSpec, laterInterventions, runUsesPool } from './spec'
+import { buildRunSpec, isCountModel, laterInterventions, runUsesPool } from './spec'
 import type { Run, RunData, StudyRecord } from './runData'
 
 type RunInput = z.output<typeof runCreateSchema>
@@ -62,7 +62,9 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
   if (usesPool && !comparison.length) badRequest('The pool is empty: include at least one comparison jurisdiction on the Pool step.')
   if (design === 'synthetic' && study.treated.length !== 1) badRequest(`The weighted comparison is built for one treated jurisdiction; this study has ${study.treated.length}. Use difference-in-differences, or a study per jurisdiction.`)
   const units = usesPool ? [...study.treated, ...comparison] : [...study.treated]
-  const source = studySource(study, units.sort())
+  const counts = isCountModel(design, options)
+  if (counts && (study.transform !== 'rate' || !study.denominator)) badRequest('A count model needs the outcome recorded as a count with a denominator: set the study\'s transform to "rate" with a denominator measure, or use the linear model.')
+  const source = { ...studySource(study, units.sort()), ...(counts ? { counts: true } : {}) }
   const read = await readStudyRows(source)
   const periods = [...new Set(read.rows.map(r => r.period))].sort()
   const specInput = buildRunSpec(study, design, options, comparison, periods)

@@ -50,6 +50,11 @@ export function runUsesPool(design: RunDesign, options: RunOptions): boolean {
   return design === 'did' || design === 'event_study' || design === 'synthetic' || design === 'staggered' || (design === 'its' && !!options.its?.comparison && options.its.comparison !== 'none')
 }
 
+/** An its run that models counts (Poisson or quasi-Poisson) with the denominator as exposure. */
+export function isCountModel(design: RunDesign, options: RunOptions): boolean {
+  return design === 'its' && !!options.its?.family && options.its.family !== 'gaussian'
+}
+
 /** Later interventions on the treated jurisdictions (after their start), sorted, without repeats. */
 export function laterInterventions(study: Pick<StudyForSpec, 'treated' | 'start' | 'interventions'>): { period: string, label: string }[] {
   const starts = startsOf(study)
@@ -96,6 +101,13 @@ export function buildRunSpec(study: StudyForSpec, design: RunDesign, options: Ru
       seasonality: freq === 'month' ? 'month' : freq === 'quarter' ? 'quarter' : 'none',
       ...(breaks.length ? { breaks } : {}),
       ...options.its,
+    }
+    if (isCountModel(design, options)) {
+      // the count as recorded, with the denominator as exposure: rates per 1,000 follow from the rate ratios
+      spec.outcome = 'count'
+      spec.transform = 'level'
+      spec.its.exposure = 'exposure'
+      spec.covariates = []
     }
   }
   const { its: _its, eventWindow, interventions: _interventions, did, ...rest } = options

@@ -1,7 +1,7 @@
 /** buildRunSpec: the study's fields, the pool as comparison, and the defaults a run gets. */
 import { describe, expect, it } from 'vitest'
 import { parseSpec } from '../../../../server/engine'
-import { buildRunSpec, laterInterventions, runUsesPool } from '../../../../server/services/studies/spec'
+import { buildRunSpec, isCountModel, laterInterventions, runUsesPool } from '../../../../server/services/studies/spec'
 
 const study = {
   treated: ['A'],
@@ -59,5 +59,12 @@ describe('buildRunSpec', () => {
     const spec = parseSpec(buildRunSpec({ ...study, treated: ['A', 'B'], start: { A: '2017-07', B: '2019-01' }, window: { pre: ['2012-01', '2017-06'], post: ['2017-07', '2019-12'] } }, 'staggered', {}, pool, periods))
     expect(spec).toMatchObject({ design: 'staggered', comparison: pool, covariates: [], start: { A: '2017-07', B: '2019-01' } })
     expect(spec.window).toBeUndefined()
+  })
+
+  it('its as counts: the count as outcome, the denominator as exposure, no covariates', () => {
+    const spec = parseSpec(buildRunSpec(study, 'its', { its: { family: 'quasipoisson', comparison: 'none' } }, pool, periods))
+    expect(spec).toMatchObject({ outcome: 'count', transform: 'level', covariates: [], its: { family: 'quasipoisson', exposure: 'exposure', comparison: 'none' } })
+    expect(isCountModel('its', { its: { family: 'poisson' } } as never)).toBe(true)
+    expect(isCountModel('did', {})).toBe(false)
   })
 })
