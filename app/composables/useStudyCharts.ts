@@ -46,12 +46,3 @@ export function useStudyCharts() {
 
 export const STUDY_COLOURS = { treated: '#b1502b', pool: '#2d6b5f', donor: 'rgba(74, 88, 94, 0.28)', gap: '#1e2a2f', ci: 'rgba(45, 107, 95, 0.35)' }
 
-/** The adoption charts of the Estimates step (event time, cohorts, two-by-two comparisons). */
-export const STUDY_STAGGERED_PALETTE: StaggeredPalette = {
-  estimate: STUDY_COLOURS.treated,
-  pre: '#6b777c',
-  band: 'rgba(177, 80, 43, 0.16)',
-  zero: STUDY_COLOURS.gap,
-  cohorts: ['#b1502b', '#2d6b5f', '#5b4a8b', '#b88a1b', '#3d6f98', '#8e3d5a', '#6b8a3a', '#4a585e'],
-  kinds: { treated_vs_never: STUDY_COLOURS.pool, earlier_vs_later: '#3d6f98', later_vs_earlier: STUDY_COLOURS.treated },
-}

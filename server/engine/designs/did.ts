@@ -66,7 +66,7 @@ function cellMeans(sample: Sample, treated: Float64Array, post: Float64Array): G
  * One 0/1 term per phase (phase_1 from each treated unit's start to the first phase start,
  * phase_k from the (k-1)-th phase start to the k-th), checked against the sample.
  */
-function phaseTerms(panel: Panel, spec: Spec, roles: Roles, sample: Sample): Term[] {
+export function phaseTerms(panel: Panel, spec: Spec, roles: Roles, sample: Sample): Term[] {
   const values = spec.did.phases ?? []
   const phases = values.map((value, k) => ({ value, ordinal: periodOrdinal(panel, value, `did.phases[${k}]`) })).sort((a, b) => a.ordinal - b.ordinal)
   const latestStart = Math.max(...roles.treated.map((u) => roles.start[u]))
@@ -125,15 +125,21 @@ function covariateTerms(spec: Spec, sample: Sample): Term[] {
   return spec.covariates.map((c) => ({ name: c, values: sample.column(c) }))
 }
 
-function estimate2x2(panel: Panel, spec: Spec, roles: Roles, sample: Sample, warnings: string[]): EstimateResult {
-  if (roles.commonStart === null) throw new EngineError('invalid_spec', 'did form "2x2" needs one start shared by all treated units; use form "twfe" or the event study for differing starts')
+/** The 2x2 regressors: treated (unit is treated) and post (from the window's post start or the common start). */
+export function twoByTwoIndicators(roles: Roles, sample: Sample): { treated: Float64Array; post: Float64Array } {
   const treated = new Float64Array(sample.n)
   const post = new Float64Array(sample.n)
-  const postFrom = roles.window ? roles.window.post[0] : roles.commonStart
+  const postFrom = roles.window ? roles.window.post[0] : roles.commonStart!
   for (let i = 0; i < sample.n; i++) {
     treated[i] = roles.isTreated[sample.unitPanel[sample.unit[i]]]
     post[i] = sample.ordinal[i] >= postFrom ? 1 : 0
   }
+  return { treated, post }
+}
+
+function estimate2x2(panel: Panel, spec: Spec, roles: Roles, sample: Sample, warnings: string[]): EstimateResult {
+  if (roles.commonStart === null) throw new EngineError('invalid_spec', 'did form "2x2" needs one start shared by all treated units; use form "twfe" or the event study for differing starts')
+  const { treated, post } = twoByTwoIndicators(roles, sample)
   const groupMeans = cellMeans(sample, treated, post)
   for (const [k, v] of Object.entries(groupMeans.nCells)) {
     if (v === 0) throw new EngineError(k.endsWith('Pre') ? 'no_pre_periods' : 'no_post_periods', `did 2x2: the ${k.replace(/(Pre|Post)$/, ' $1').toLowerCase()} cell has no rows`)

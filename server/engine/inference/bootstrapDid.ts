@@ -8,7 +8,8 @@
 import type { EstimateResult, InferenceResult } from '../../../shared/engine/result'
 import type { Spec } from '../../../shared/engine/spec'
 import { EngineError } from '../errors'
-import { type Panel, periodOrdinal } from '../panel'
+import type { Panel } from '../panel'
+import { phaseTerms, twoByTwoIndicators } from '../designs/did'
 import type { Term } from '../regression'
 import { clustersOf, resolveRoles, selectSample, treatmentIndicator } from '../sample'
 import type { Choice } from './choose'
@@ -28,26 +29,11 @@ export function didWildBootstrap(panel: Panel, spec: Spec, result: EstimateResul
     terms.push({ name: test, values: sample.column(test) })
   } else if (!twfe) {
     // the pooled 2x2 regression: treated, post and their product, with an intercept
-    const treated = new Float64Array(sample.n)
-    const post = new Float64Array(sample.n)
-    const postFrom = roles.window ? roles.window.post[0] : roles.commonStart!
-    for (let i = 0; i < sample.n; i++) {
-      treated[i] = roles.isTreated[sample.unitPanel[sample.unit[i]]]
-      post[i] = sample.ordinal[i] >= postFrom ? 1 : 0
-    }
+    const { treated, post } = twoByTwoIndicators(roles, sample)
     terms.push({ name: 'treated', values: treated }, { name: 'post', values: post }, { name: 'treatment', values: treatmentIndicator(sample, roles) })
     test = 'treatment'
   } else if (spec.did.phases?.length) {
-    const d = treatmentIndicator(sample, roles)
-    const cuts = spec.did.phases.map((p, k) => periodOrdinal(panel, p, `did.phases[${k}]`)).sort((a, b) => a - b)
-    const phases = [...cuts.map(() => new Float64Array(sample.n)), new Float64Array(sample.n)]
-    for (let i = 0; i < sample.n; i++) {
-      if (!d[i]) continue
-      let k = 0
-      while (k < cuts.length && sample.ordinal[i] >= cuts[k]) k++
-      phases[k][i] = 1
-    }
-    phases.forEach((values, k) => terms.push({ name: `phase_${k + 1}`, values }))
+    terms.push(...phaseTerms(panel, spec, roles, sample))
     test = 'phase_1'
   } else {
     test = 'treatment'
