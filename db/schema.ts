@@ -223,6 +223,29 @@ export const studyRuns = pgTable('study_runs', {
   createdAt: createdAt(),
 }, t => [index('study_runs_study').on(t.studyId)])
 
+/**
+ * Robustness checks of a run (placebo in time and space, leave one donor out, alternative
+ * pools): one row per check, run as a background job; the result is stored with the spec the
+ * engine read and the fingerprint of the rows (services/studies/fingerprint.ts).
+ */
+export const robustnessRuns = pgTable('robustness_runs', {
+  id: serial('id').primaryKey(),
+  studyId: integer('study_id').notNull().references(() => studies.id, { onDelete: 'cascade' }),
+  /** The run whose design and data are checked. */
+  runId: integer('run_id').references(() => studyRuns.id, { onDelete: 'set null' }),
+  kind: text('kind', { enum: ['placebo_time', 'placebo_space', 'leave_one_out', 'pools'] }).notNull(),
+  spec: jsonb('spec').$type<Record<string, unknown>>().notNull(),
+  fingerprint: text('fingerprint'),
+  status: text('status', { enum: ['queued', 'running', 'done', 'failed', 'cancelled'] }).notNull().default('queued'),
+  progress: doublePrecision('progress').notNull().default(0),
+  message: text('message'),
+  result: jsonb('result').$type<Record<string, unknown>>(),
+  jobId: uuid('job_id'),
+  createdBy: integer('created_by').references(() => users.id),
+  createdAt: createdAt(),
+  updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),
+}, t => [index('robustness_runs_study').on(t.studyId)])
+
 export const validityNotes = pgTable('validity_notes', {
   id: serial('id').primaryKey(),
   studyId: integer('study_id').notNull().references(() => studies.id, { onDelete: 'cascade' }),

@@ -1,0 +1,165 @@
+/**
+ * The Robustness step's routes against the running server and the real database: an analyst
+ * starts the checks of a run, they run as background jobs with progress, and each result is
+ * stored with its spec and the fingerprint of the rows it read; the numbers agree with the
+ * engine run on the rows read back independently (tests/support/studies.ts). Cancel, and the
+ * refusals: no session, a reviewer (reader without write access), bad input, unknown ids.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { estimate } from '../../server/engine'
+import { fingerprintRows } from '../../server/services/studies/fingerprint'
+import { anonymous } from '../support/http'
+import { closePool, sql } from '../support/db'
+import { readRowsBack } from '../support/studies'
+import { type StudyFixture, studyWithRuns } from '../support/studyFixture'
+
+let f: StudyFixture
+let started: any[]
+let finished: any[]
+const base = () => `/api/studies/${f.studyId}/robustness`
+const ended = (s: string) => ['done', 'failed', 'cancelled'].includes(s)
+
+async function waitFor(ids: number[], ms = 90_000) {
+  for (const start = Date.now(); Date.now() - start < ms;) {
+    const list = await f.analyst.get(base())
+    const rows = (list.body as any[]).filter(r => ids.includes(r.id))
+    if (rows.length === ids.length && rows.every(r => ended(r.status))) return rows
+    await new Promise(r => setTimeout(r, 250))
+  }
+  throw new Error(`robustness checks ${ids.join(', ')} did not end in ${ms / 1000} s`)
+}
+
+beforeAll(async () => {
+  f = await studyWithRuns()
+  const res = await f.analyst.post(base(), { runId: f.runs.did.id })
+  expect(res.status, JSON.stringify(res.body)).toBe(202)
+  started = res.body
+  finished = await waitFor(started.map(r => r.id))
+}, 120_000)
+afterAll(closePool)
+
+const byKind = (k: string) => finished.find(r => r.kind === k)
+
+describe('robustness checks of a run', () => {
+  it('queues one job per check, all four by default', async () => {
+    expect(started.map(r => r.kind).sort()).toEqual(['leave_one_out', 'placebo_space', 'placebo_time', 'pools'])
+    for (const r of started) {
+      expect(r.runId).toBe(f.runs.did.id)
+      expect(r.jobId).toMatch(/^[0-9a-f-]{36}$/)
+      expect(['queued', 'running', 'done']).toContain(r.status)
+    }
+    expect(finished.map(r => `${r.kind}:${r.status}:${r.message}`).sort()).toEqual(['leave_one_out:done:Done', 'placebo_space:done:Done', 'placebo_time:done:Done', 'pools:done:Done'])
+    for (const r of finished) expect(r.progress).toBe(1)
+  })
+
+  it('stores each result with its spec and the fingerprint of the rows it read', async () => {
+    const rows = await readRowsBack(f.runs.did.id)
+    for (const kind of ['placebo_time', 'placebo_space', 'leave_one_out']) {
+      const r = byKind(kind)
+      expect(r.spec.kind).toBe(kind)
+      expect(r.spec.run).toEqual(f.runs.did.spec)
+      expect(r.fingerprint, kind).toBe(fingerprintRows(rows, r.spec))
+    }
+    const [db] = await sql('SELECT fingerprint, status FROM robustness_runs WHERE id = $1', [byKind('pools').id])
+    expect(db.status).toBe('done')
+    expect(db.fingerprint).toMatch(/^[0-9a-f]{64}$/)
+  })
+
+  it('placebo in time: fake starts in the pre-period with the run\'s effect as the actual one', () => {
+    const r = byKind('placebo_time').result
+    expect(byKind('placebo_time').spec.minDistance).toBe(3)
+    // data 2001-2012, start 2007: pre-period 2001-2006 (6 periods), fake start 2004 only
+    expect(r.prePeriods).toBe(6)
+    expect(r.fakes.map((x: any) => x.start)).toEqual(['2004'])
+    expect(r.actual.estimate).toBeCloseTo(f.runs.did.result.effect.estimate, 12)
+    expect(r.share).toBe(r.atLeastAsLarge / r.n)
+  })
+
+  it('leave one out: each estimate equals a fresh estimate on the pool without that donor', async () => {
+    const rows = (await readRowsBack(f.runs.did.id)).map(x => ({ unit: x.jurisdiction, period: x.period, values: x.values }))
+    const r = byKind('leave_one_out').result
+    expect(r.rows.map((x: any) => x.unit).sort()).toEqual([...f.codes.comparison].sort())
+    for (const x of r.rows) {
+      const spec = { ...f.runs.did.spec, comparison: f.codes.comparison.filter(c => c !== x.unit), inference: { ...f.runs.did.spec.inference, method: 'analytic' } }
+      expect(x.estimate).toBeCloseTo(estimate({ rows }, spec).effect.estimate, 10)
+    }
+    expect(r.mostInfluential.length).toBe(3)
+  })
+
+  it('placebo in space uses the run\'s placebos; the run\'s own pool reproduces the run', () => {
+    const space = byKind('placebo_space').result
+    expect(space.source).toBe(f.runs.did.result.inference.method === 'permutation' ? 'run' : 'estimated')
+    expect(space.n).toBe(f.codes.comparison.length)
+    const pools = byKind('pools').result.pools
+    expect(pools.map((p: any) => p.name)).toEqual(['run', 'suggested', 'weighted', 'same_region'])
+    expect(pools[0].estimate).toBeCloseTo(f.runs.did.result.effect.estimate, 10)
+    expect(pools[2].design).toBe('synthetic')
+    // the fixture's jurisdictions have no region: that pool is kept, empty, with its reason
+    expect(pools[3].estimate).toBeNull()
+    expect(pools[3].note).toMatch(/no region/)
+  })
+
+  it('cancels a check: the route sets it cancelled and it never becomes done', async () => {
+    const [row] = await sql(`INSERT INTO robustness_runs (study_id, run_id, kind, spec, status) VALUES ($1, $2, 'leave_one_out', '{}'::jsonb, 'running') RETURNING id`, [f.studyId, f.runs.did.id])
+    const res = await f.analyst.post(`${base()}/${row.id}/cancel`, {})
+    expect(res.status).toBe(200)
+    expect(res.body.status).toBe('cancelled')
+    const again = await f.analyst.post(`${base()}/${row.id}/cancel`, {})
+    expect(again.status).toBe(409)
+    expect(again.body.message).toMatch(/already ended \(cancelled\)/)
+    // a real job cancelled as soon as it is queued
+    const start = await f.analyst.post(base(), { kinds: ['leave_one_out', 'pools'] })
+    expect(start.status).toBe(202)
+    const last = start.body.find((r: any) => r.kind === 'pools')
+    const cancel = await f.analyst.post(`${base()}/${last.id}/cancel`, {})
+    const [end] = await waitFor([last.id])
+    if (cancel.status === 200) expect(end.status).toBe('cancelled')
+    else expect(cancel.status).toBe(409)
+    await waitFor(start.body.map((r: any) => r.id))
+  })
+
+  it('a reviewer reads the record', async () => {
+    const res = await f.reviewer.get(base())
+    expect(res.status).toBe(200)
+    expect(res.body.length).toBeGreaterThanOrEqual(4)
+  })
+})
+
+describe('refusals', () => {
+  it('no session: 401', async () => {
+    expect((await anonymous().post(base(), {})).status).toBe(401)
+    expect((await anonymous().get(base())).status).toBe(401)
+    expect((await anonymous().post(`${base()}/${started[0].id}/cancel`, {})).status).toBe(401)
+  })
+
+  it('a reviewer cannot start or cancel: 403', async () => {
+    expect((await f.reviewer.post(base(), {})).status).toBe(403)
+    expect((await f.reviewer.post(`${base()}/${started[0].id}/cancel`, {})).status).toBe(403)
+  })
+
+  it('bad input: 400 with the problem named', async () => {
+    const cases: [unknown, RegExp][] = [
+      [{ kinds: ['nope'] }, /Each check is one of/],
+      [{ kinds: [] }, /at least one check/],
+      [{ kinds: ['pools', 'pools'] }, /listed once/],
+      [{ options: { minDistance: 0 } }, /at least 1 period/],
+      [{ runId: 'x' }, /runId/],
+      [{ surprise: 1 }, /surprise/],
+    ]
+    for (const [body, message] of cases) {
+      const res = await f.analyst.post(base(), body)
+      expect(res.status, JSON.stringify(body)).toBe(400)
+      expect(JSON.stringify(res.body), JSON.stringify(body)).toMatch(message)
+    }
+  })
+
+  it('unknown run, unknown check, a study without runs', async () => {
+    expect((await f.analyst.post(base(), { runId: 999999 })).status).toBe(404)
+    expect((await f.analyst.post(`${base()}/999999/cancel`, {})).status).toBe(404)
+    const other = await f.analyst.post('/api/studies', { title: `No runs ${f.tag}`, outcome: f.outcome, treated: [f.codes.treated], start: '2007' })
+    expect(other.status).toBe(201)
+    const res = await f.analyst.post(`/api/studies/${other.body.id}/robustness`, {})
+    expect(res.status).toBe(400)
+    expect(res.body.message).toMatch(/no estimate yet/)
+  })
+})
