@@ -27,3 +27,8 @@ export function useStudies(status: MaybeRefOrGetter<string>, mine: MaybeRefOrGet
     query: computed(() => ({ ...(toValue(status) ? { status: toValue(status) } : {}), ...(toValue(mine) ? { mine: '1' } : {}) })),
   })
 }
+
+/** The study's robustness checks, newest first (client only: the page polls while any runs). */
+export function useStudyRobustness(id: MaybeRefOrGetter<number>) {
+  return useFetch(() => `/api/studies/${toValue(id)}/robustness`, { key: `study-robustness-${toValue(id)}` })
+}

@@ -10,6 +10,7 @@ import pkg from '~~/package.json'
 import type { SessionUser } from '../../utils/auth'
 import { loadRunRows } from '../studies/runData'
 import { OUTCOME } from '../studies/rows'
+import { robustnessForRun } from '../robustness/forRun'
 import { buildWorkbook, type WorkbookInput, workbookFileName } from './build'
 
 export async function workbookInput(studyId: number, runId: number, user: SessionUser): Promise<WorkbookInput> {
@@ -49,6 +50,7 @@ export async function workbookInput(studyId: number, runId: number, user: Sessio
     rows: rows.map(r => ({ unit: r.jurisdiction, period: r.period, values: r.values })),
     panelColumns: valueKeys.map(key => ({ key, header: key === OUTCOME ? outcomeHeader : label.get(key) ?? key })),
     validity: notes.map(n => ({ threat: n.threat, assessment: n.assessment, note: n.note, evidence: n.evidence })),
+    robustness: await robustnessForRun(run.id),
     releases,
     software: { name: 'Counterpart', version: pkg.version },
     generated: { at: new Date(), by: `${user.name} (${user.email})` },
