@@ -45,9 +45,9 @@ export interface ForestRow {
   note?: string | null
 }
 
-/** A linear scale over every value shown (and zero), padded 6% each side: value -> 0..100. */
-export function forestScale(rows: readonly ForestRow[], marks: readonly (number | null | undefined)[] = []) {
-  const values = [0, ...marks, ...rows.flatMap(r => [r.estimate, r.low, r.high])].filter((v): v is number => typeof v === 'number' && Number.isFinite(v))
+/** A linear scale over every value shown (and zero unless told not to), padded 6% each side: value -> 0..100. */
+export function forestScale(rows: readonly ForestRow[], marks: readonly (number | null | undefined)[] = [], includeZero = true) {
+  const values = [...(includeZero ? [0] : []), ...marks, ...rows.flatMap(r => [r.estimate, r.low, r.high])].filter((v): v is number => typeof v === 'number' && Number.isFinite(v))
   let lo = Math.min(...values)
   let hi = Math.max(...values)
   if (hi === lo) {
@@ -71,8 +71,12 @@ export function placeboTimeRows(r: Extract<RobustnessResult, { kind: 'placebo_ti
 /** Rows of the leave-one-out chart: one per donor left out, most influential first. */
 export function leaveOneOutRows(r: Extract<RobustnessResult, { kind: 'leave_one_out' }>): ForestRow[] {
   const top = new Set(r.mostInfluential)
+  const tie = 1e-12 * (1 + Math.abs(r.full))
   return [...r.rows]
-    .sort((a, b) => Math.abs(b.change ?? 0) - Math.abs(a.change ?? 0) || (a.unit < b.unit ? -1 : 1))
+    .sort((a, b) => {
+      const d = Math.abs(b.change ?? 0) - Math.abs(a.change ?? 0)
+      return Math.abs(d) > tie ? d : a.unit < b.unit ? -1 : 1
+    })
     .map(x => ({ label: `without ${x.unit}`, estimate: x.estimate, strong: top.has(x.unit), note: x.note }))
 }
 

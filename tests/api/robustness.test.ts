@@ -5,6 +5,7 @@
  * engine run on the rows read back independently (tests/support/studies.ts). Cancel, and the
  * refusals: no session, a reviewer (reader without write access), bad input, unknown ids.
  */
+import ExcelJS from 'exceljs'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { estimate } from '../../server/engine'
 import { fingerprintRows } from '../../server/services/studies/fingerprint'
@@ -116,6 +117,27 @@ describe('robustness checks of a run', () => {
     if (cancel.status === 200) expect(end.status).toBe('cancelled')
     else expect(cancel.status).toBe(409)
     await waitFor(start.body.map((r: any) => r.id))
+  })
+
+  it('the run\'s report and workbook carry the finished checks', async () => {
+    const report = await f.reviewer.get(`/api/studies/${f.studyId}/runs/${f.runs.did.id}/report`)
+    expect(report.status).toBe(200)
+    const kinds = new Set(report.body.robustness.map((c: any) => c.kind))
+    expect([...kinds].sort()).toEqual(['leave_one_out', 'placebo_space', 'placebo_time', 'pools'])
+    const res = await f.reviewer.raw(`/api/studies/${f.studyId}/runs/${f.runs.did.id}/workbook`)
+    expect(res.status).toBe(200)
+    const wb = new ExcelJS.Workbook()
+    await wb.xlsx.load(await res.arrayBuffer())
+    const values: unknown[][] = []
+    wb.getWorksheet('Robustness')!.eachRow(r => void values.push((r.values as unknown[]).slice(1)))
+    const full = values.find(v => v[0] === 'Leave one donor out' && v[1] === 'Every donor')
+    expect(full![2]).toBe(byKind('leave_one_out').result.full)
+    expect(values.some(v => v[1] === 'Finding' && v[0] === 'Placebo in time')).toBe(true)
+    // the event-study run has no checks: its sheet says so
+    const other = await f.reviewer.raw(`/api/studies/${f.studyId}/runs/${f.runs.event.id}/workbook`)
+    const wb2 = new ExcelJS.Workbook()
+    await wb2.xlsx.load(await other.arrayBuffer())
+    expect(String(wb2.getWorksheet('Robustness')!.getRow(2).getCell(2).value)).toMatch(/No robustness check of this run has finished/)
   })
 
   it('a reviewer reads the record', async () => {

@@ -50,7 +50,13 @@ export async function leaveOneOut(input: PanelInput, specInput: unknown, options
   }
   await step(hooks, 1, 'Leave one out done')
   const values = rows.filter((r) => r.estimate !== null)
-  const mostInfluential = [...values].sort((a, b) => Math.abs(b.change!) - Math.abs(a.change!) || (a.unit < b.unit ? -1 : 1)).slice(0, 3).map((r) => r.unit)
+  // largest move first; moves equal up to rounding (1e-12 of the estimate) in code order
+  const tie = 1e-12 * (1 + Math.abs(full))
+  const byMove = (a: LeaveOneOutRow, b: LeaveOneOutRow) => {
+    const d = Math.abs(b.change!) - Math.abs(a.change!)
+    return Math.abs(d) > tie ? d : a.unit < b.unit ? -1 : 1
+  }
+  const mostInfluential = [...values].sort(byMove).slice(0, 3).map((r) => r.unit)
   const warnings: string[] = []
   const failed = rows.length - values.length
   if (failed) warnings.push(`${failed} donor${failed > 1 ? 's' : ''} could not be left out (the design could not be estimated without ${failed > 1 ? 'them' : 'it'})`)
