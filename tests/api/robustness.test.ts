@@ -109,7 +109,7 @@ describe('robustness checks of a run', () => {
     expect(again.status).toBe(409)
     expect(again.body.message).toMatch(/already ended \(cancelled\)/)
     // a real job cancelled as soon as it is queued
-    const start = await f.analyst.post(base(), { kinds: ['leave_one_out', 'pools'] })
+    const start = await f.analyst.post(base(), { runId: f.runs.did.id, kinds: ['leave_one_out', 'pools'] })
     expect(start.status).toBe(202)
     const last = start.body.find((r: any) => r.kind === 'pools')
     const cancel = await f.analyst.post(`${base()}/${last.id}/cancel`, {})
@@ -138,6 +138,17 @@ describe('robustness checks of a run', () => {
     const wb2 = new ExcelJS.Workbook()
     await wb2.xlsx.load(await other.arrayBuffer())
     expect(String(wb2.getWorksheet('Robustness')!.getRow(2).getCell(2).value)).toMatch(/No robustness check of this run has finished/)
+  })
+
+  it('without runId the newest run is checked', async () => {
+    const res = await f.analyst.post(base(), { kinds: ['placebo_time'], options: { minDistance: 2 } })
+    expect(res.status).toBe(202)
+    expect(res.body[0].runId).toBe(f.runs.event.id)
+    expect(res.body[0].spec.minDistance).toBe(2)
+    const [end] = await waitFor([res.body[0].id])
+    expect(end.status).toBe('done')
+    // pre-period 2001-2006 with 2 kept on each side: fake starts 2003, 2004 and 2005
+    expect(end.result.fakes.map((x: any) => x.start)).toEqual(['2003', '2004', '2005'])
   })
 
   it('a reviewer reads the record', async () => {

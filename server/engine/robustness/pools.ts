@@ -2,8 +2,8 @@
  * Alternative pools side by side: the run's design (or the design a pool names, such as the
  * weighted comparison) estimated on each named pool, with the headline inference the engine
  * chooses for it (inference/choose.ts). Estimates that agree across reasonable pools are more
- * credible than one that depends on the choice of comparison units (common practice; see
- * DESIGN.md, "Robustness").
+ * credible than one that depends on the choice of comparison units (common practice; the
+ * stress-test step of DESIGN.md, "The job").
  *
  * A pool that cannot be estimated (too few units, a design that refuses it) is kept with its
  * reason and no numbers. Throws EngineError 'invalid_spec' when no pool is given;
