@@ -13,6 +13,7 @@ import { anonymous } from '../support/http'
 import { closePool, sql } from '../support/db'
 import { readRowsBack } from '../support/studies'
 import { type StudyFixture, studyWithRuns } from '../support/studyFixture'
+import { demoStudyWithRun } from '../support/demoStudy'
 
 let f: StudyFixture
 let started: any[]
@@ -156,6 +157,42 @@ describe('robustness checks of a run', () => {
     expect(res.status).toBe(200)
     expect(res.body.length).toBeGreaterThanOrEqual(4)
   })
+})
+
+describe('cancelling a running check', () => {
+  it('stops a long check between units: the row and its job end cancelled, no result kept', async () => {
+    // the seeded demo: a weighted-comparison run, whose placebo in time re-fits the weights at each of 37 fake starts
+    const { studyId } = await demoStudyWithRun(f.analyst, `Cancel ${f.tag}`)
+    const synthetic = await f.analyst.post(`/api/studies/${studyId}/runs`, { design: 'synthetic' })
+    expect(synthetic.status, JSON.stringify(synthetic.body).slice(0, 300)).toBe(201)
+    const url = `/api/studies/${studyId}/robustness`
+    const start = await f.analyst.post(url, { runId: synthetic.body.id, kinds: ['placebo_time'] })
+    expect(start.status).toBe(202)
+    const id = start.body[0].id
+    let seen: any
+    for (const t0 = Date.now(); Date.now() - t0 < 30_000;) {
+      seen = (await f.analyst.get(url)).body.find((r: any) => r.id === id)
+      if (seen.status !== 'queued' && (seen.progress > 0 || seen.status !== 'running')) break
+      await new Promise(r => setTimeout(r, 100))
+    }
+    expect(seen.status).toBe('running')
+    const cancel = await f.analyst.post(`${url}/${id}/cancel`, {})
+    expect(cancel.status).toBe(200)
+    const stoppedAt = Date.now()
+    for (;;) {
+      const job = await f.analyst.get(`/api/jobs/${seen.jobId}`)
+      if (job.body.state !== 'running' && job.body.state !== 'queued') {
+        expect(job.body.message).toMatch(/cancelled/i)
+        break
+      }
+      expect(Date.now() - stoppedAt).toBeLessThan(10_000)
+      await new Promise(r => setTimeout(r, 100))
+    }
+    const [row] = await sql('SELECT status, result, progress FROM robustness_runs WHERE id = $1', [id])
+    expect(row.status).toBe('cancelled')
+    expect(row.result).toBeNull()
+    expect(row.progress).toBeLessThan(1)
+  }, 90_000)
 })
 
 describe('refusals', () => {
