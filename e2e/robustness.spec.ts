@@ -52,6 +52,7 @@ test('the reviewer sees the robustness record on the Review step', async ({ page
   const summary = page.getByTestId('robustness-summary')
   await expect(summary.locator('tr[data-kind]')).toHaveCount(4)
   await expect(summary.locator('tr[data-kind="leave_one_out"]')).toContainText('Leaving out one comparison jurisdiction at a time')
+  await expect(summary.getByTestId('older-run')).toHaveCount(0)
   await snap(page, 'robustness-review')
   await summary.getByRole('link', { name: 'Open the Robustness step' }).click()
   await expect(page.getByTestId('result-pools')).toBeVisible()
