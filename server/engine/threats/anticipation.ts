@@ -32,13 +32,13 @@ export function anticipationEvidence(x: LeadInput): ThreatEvidence {
   const p = x.placeboP ?? (x.waldReliable ? x.waldP : null)
   const source = x.placeboP !== null ? 'by placebo units' : 'by the clustered F test'
   const verdict = p === null || !leads.length ? 'unclear' : p < 0.05 ? 'weakens' : 'supports'
-  const nearText = near.map(l => `${l.relTime}: ${num(l.estimate)}`).join(', ')
+  const nearText = near.map(l => `${-l.relTime} before: ${num(l.estimate)}`).join(', ')
   return {
     threat: 'testing',
     verdict,
     figure: !leads.length
       ? 'The event study has no lead coefficients to read.'
-      : `Leads nearest the start (periods before it: estimate) ${nearText}; joint test ${p === null ? 'not dependable here' : `${pText(p)} ${source}`}.`,
+      : `Lead coefficients nearest the start (periods before it) ${nearText}; joint test ${p === null ? 'not dependable here' : `${pText(p)} ${source}`}.`,
     explanation: verdict === 'weakens'
       ? 'The outcome already moved before the start: anticipation, a reaction to measurement, or diverging trends; the estimate may include it.'
       : verdict === 'supports'

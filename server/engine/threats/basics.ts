@@ -110,3 +110,10 @@ export function num(x: number): string {
 }
 
 export const pct = (x: number) => `${Math.round(x * 100)}%`
+
+/** "37th percentile" style ordinal of a share (0..1), rounded to a whole percent. */
+export function percentileText(x: number): string {
+  const n = Math.round(x * 100)
+  const suffix = n % 100 >= 11 && n % 100 <= 13 ? 'th' : ({ 1: 'st', 2: 'nd', 3: 'rd' } as Record<number, string>)[n % 10] ?? 'th'
+  return `${n}${suffix} percentile`
+}

@@ -119,7 +119,7 @@ export function instrumentationEvidence(s: StudySeries, cells: RevisedCell[], tr
     explanation: verdict === 'weakens'
       ? (bigTreated ? 'The treated unit\'s figures were revised materially between releases: check whether the counting rules changed. ' : '') + (breaks ? 'Units without the policy jumped at the same date: a change in how the outcome is recorded is one explanation.' : '')
       : verdict === 'supports'
-        ? 'The figures were stable between releases and the comparison shows no jump at the start; a change in counting that hit only the treated unit would not show here.'
+        ? `${r.repeated === 0 ? 'With one release per value, revisions cannot be checked; ' : 'The figures were stable between releases and '}the comparison shows no jump at the start. A change in counting that hit only the treated unit would not show here.`
         : 'Small revisions or a weak jump in the comparison: neither clear nor absent; read the source notes on definitions.',
     rule: 'Weakens when the treated units\' values were revised by more than 5% between releases or the comparison\'s level breaks at the start with p < 0.01; supports when no value changed by more than 1% and the break has p >= 0.05; cannot tell otherwise.',
     figures: { cellsInSeveralReleases: r.repeated, revisedCells: r.revised, revisedTreatedCells: r.revisedTreated, maxRelativeRevision: r.maxRelative, comparisonBreak: b?.estimate ?? null, comparisonBreakP: b?.p ?? null },

@@ -10,7 +10,7 @@
  * with fewer than 10 candidates having a level and a trend.
  */
 import type { ThreatEvidence } from '../../../shared/engine/threats'
-import { lineOf, meanOf, num, pct, percentileRank } from './basics'
+import { lineOf, meanOf, num, percentileRank, percentileText } from './basics'
 
 export interface SelectionInput {
   nPre: number
@@ -46,7 +46,7 @@ export function selectionEvidence(x: SelectionInput): ThreatEvidence {
     threat: 'selection',
     verdict,
     figure: enough
-      ? `Before the start the treated level (${num(s.own!.level)}) sits at the ${pct(s.levelRank!)} percentile and its trend (${num(s.own!.trend)} per period) at the ${pct(s.trendRank!)} percentile of ${s.n} candidates.`
+      ? `Before the start the treated level (${num(s.own!.level)}) sits at the ${percentileText(s.levelRank!)} and its trend (${num(s.own!.trend)} per period) at the ${percentileText(s.trendRank!)} of ${s.n} candidates.`
       : `Only ${s.n} candidate${s.n === 1 ? '' : 's'} with a pre-period level and trend: too few to rank the treated unit.`,
     explanation: !enough
       ? 'With so few candidates an outlier cannot be told from an ordinary unit.'

@@ -7,7 +7,7 @@
  *
  * Sheets: Summary, Coefficients, Inference, Weighted comparison, Group-time (staggered
  * adoption), Decomposition (of a two-way estimate), Event study, Pre-trend tests, Donor pool,
- * Panel rows, Validity, Provenance. Numbers are number cells with number formats; every table has a
+ * Panel rows, Validity, Threat evidence, Provenance. Numbers are number cells with number formats; every table has a
  * frozen header row and set column widths.
  *
  * Formula injection: no cell is ever written as a formula. exceljs stores a JavaScript string
@@ -23,6 +23,7 @@ import { guardFormula } from '../../../shared/delivery/formulaGuard'
 import { DECOMPOSITION_LABELS, designLabel } from '../../../shared/delivery/labels'
 import { METHOD_LABELS, breaksOfSpec, inferenceText, termLabels } from '../../../shared/delivery/inference'
 import { ASSESSMENT_LABELS, THREATS, type Assessment } from '../../../shared/schemas/validity'
+import { threatEvidenceSheet, type WorkbookThreatEvidence } from './threatEvidenceSheet'
 
 export interface WorkbookPoolRow {
   jurisdiction: string
@@ -97,12 +98,14 @@ export interface WorkbookInput {
   /** The value columns of the panel sheet in order, with their headings (default: every key of the rows' values). */
   panelColumns?: { key: string, header: string }[]
   validity: WorkbookValidityNote[]
+  /** Computed evidence on each threat (threatEvidenceSheet.ts); absent: the sheet says it was not computed. */
+  threatEvidence?: WorkbookThreatEvidence | null
   releases: WorkbookRelease[]
   software: { name: string, version: string }
   generated: { at: Date, by: string }
 }
 
-export const SHEETS = ['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Group-time', 'Decomposition', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Validity', 'Provenance'] as const
+export const SHEETS = ['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Group-time', 'Decomposition', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Validity', 'Threat evidence', 'Provenance'] as const
 
 export const FORMATS = {
   estimate: '0.0000',
@@ -524,6 +527,7 @@ export async function buildWorkbook(input: WorkbookInput): Promise<Buffer> {
   donorPool(wb, input.pool).commit()
   panelRows(wb, input).commit()
   validity(wb, input.validity).commit()
+  threatEvidenceSheet(wb, input.threatEvidence).commit()
   provenance(wb, input).commit()
   await wb.commit()
   await ended

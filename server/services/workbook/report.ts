@@ -21,6 +21,7 @@ export async function runReport(studyId: number, runId: number, user: SessionUse
     series: { ...groupSeries(input.rows, input.study.treated, 'outcome'), comparisonUnits: comparison },
     pool: input.pool,
     validity: await readValidity(useDb(), studyId),
+    threatEvidence: input.threatEvidence ?? null,
     releases: input.releases,
     cautions: allCautions(input.run.result, input.study.treated.length),
     software: input.software,

@@ -83,3 +83,10 @@ describe('threatEvidence', () => {
     }
   })
 })
+
+describe('words', () => {
+  it('percentile ordinals', async () => {
+    const { percentileText } = await import('../../../server/engine/threats/basics')
+    expect([0.01, 0.02, 0.03, 0.11, 0.37, 0.5, 0.92].map(percentileText)).toEqual(['1st percentile', '2nd percentile', '3rd percentile', '11th percentile', '37th percentile', '50th percentile', '92nd percentile'])
+  })
+})
