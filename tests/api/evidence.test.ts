@@ -3,12 +3,15 @@
  * demo scenario (db/seed/demoScenario.ts): refusals (no session, a bad or unknown id), the seven
  * threats each with a verdict, figure, explanation and rule, the history figure checked against
  * the Trends step's own series (the same two-by-two difference in differences written out here),
- * the neighbours found from the registry's neighbour links, and the workbook's sheet.
+ * the neighbours found from the registry's neighbour links, the workbook's sheet, and revisions
+ * between two releases of a small invented study (one treated value raised by 10% in a second
+ * release: known by construction).
  */
 import ExcelJS from 'exceljs'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { anonymous, as, type Client } from '../support/http'
-import { closePool } from '../support/db'
+import { closePool, sql } from '../support/db'
+import { importCsv, studyWithRuns } from '../support/studyFixture'
 import { runTag } from '../support/uploads'
 import { ADOPTED, FIRST_ADOPTER, OUTCOME, STRENGTHENED, demoNeighbours } from '../../db/seed/demoScenario'
 
@@ -102,5 +105,25 @@ describe('threat evidence', () => {
     for (const r of rows) expect(['supports the estimate', 'weakens the estimate', 'cannot tell']).toContain(r[1])
     const report = await reviewer.get(`/api/studies/${id}/runs/${run.body.id}/report`)
     expect(report.body.threatEvidence.threats).toHaveLength(7)
+  })
+})
+
+describe('revisions between releases', () => {
+  it('a treated value revised by 10% in a later release shows as a revision and weakens the estimate', async () => {
+    const f = await studyWithRuns()
+    const before = (await f.reviewer.get(`/api/studies/${f.studyId}/evidence`)).body.threats[3]
+    expect(before.figures).toMatchObject({ cellsInSeveralReleases: 0, revisedCells: 0 })
+    const [{ source_id: sourceId }] = await sql('SELECT source_id FROM source_releases WHERE id = $1', [f.releaseId])
+    const old = f.csvRows.get(`${f.codes.treated}|2003`)!
+    const unchanged = f.csvRows.get(`${f.codes.comparison[0]}|2003`)!
+    const csv = `code,year,deaths\n${f.codes.treated},2003,${old.outcome * 1.1}\n${f.codes.comparison[0]},2003,${unchanged.outcome}\n`
+    await importCsv(f.analyst, sourceId, csv, { layout: 'long', jurisdiction: 'code', period: 'year', values: { deaths: f.outcome } }, 'revised edition')
+    const after = (await f.reviewer.get(`/api/studies/${f.studyId}/evidence`)).body.threats[3]
+    expect(after.figures.cellsInSeveralReleases).toBe(2)
+    expect(after.figures.revisedCells).toBe(1)
+    expect(after.figures.revisedTreatedCells).toBe(1)
+    expect(after.figures.maxRelativeRevision).toBeCloseTo(0.1, 10)
+    expect(after.verdict).toBe('weakens')
+    expect(after.figure).toMatch(/1 of 2 values published in several releases were revised/)
   })
 })

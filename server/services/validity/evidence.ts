@@ -101,15 +101,19 @@ export async function studyEvidence(study: StudyRecord): Promise<StudyEvidence> 
   }
 }
 
-/** The evidence for the workbook and report: computed now, or the reason it could not be (a 400 from the data). */
+/**
+ * The evidence for the workbook and report: computed now, or the reason it could not be. A
+ * failure here never stops the workbook or the report: the sheet and the section say it was
+ * not computed (with the data's reason for a 400; any other failure is logged).
+ */
 export async function evidenceForWorkbook(study: StudyRecord): Promise<WorkbookThreatEvidence> {
   try {
     const e = await studyEvidence(study)
     return { threats: e.threats, computedAt: new Date(), note: e.note }
   }
   catch (err) {
-    const status = (err as { statusCode?: number }).statusCode
-    if (status === 400) return { threats: null, reason: `Not computed: ${(err as Error).message}` }
-    throw err
+    if ((err as { statusCode?: number }).statusCode === 400) return { threats: null, reason: `Not computed: ${(err as Error).message}` }
+    console.error('threat evidence for the workbook failed', err)
+    return { threats: null, reason: 'Not computed: the evidence could not be computed for this study; see the Validity step.' }
   }
 }
