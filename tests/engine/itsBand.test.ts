@@ -83,3 +83,13 @@ describe('counterfactual band (by construction)', () => {
     }
   })
 })
+
+describe('count models carry the exposure per period (for rates on the reader\'s scale)', () => {
+  it('exposure beside each point; none without it', () => {
+    const counts: TypedRow[] = ys.map((y, i) => ({ unit: 'A', period: String(2001 + i), values: { c: Math.round(y * 10), n: 20 + i } }))
+    const r = estimate({ rows: counts }, { design: 'its', outcome: 'c', start: '2007', its: { family: 'poisson', exposure: 'n' }, inference: { method: 'analytic' } })
+    expect(r.itsSeries!.map(p => p.exposure)).toEqual(ys.map((_, i) => 20 + i))
+    const g = estimate({ rows }, { design: 'its', outcome: 'y', start: '2007', its: { hacLag: 0 }, inference: { method: 'analytic' } })
+    expect(g.itsSeries![0]!.exposure).toBeUndefined()
+  })
+})

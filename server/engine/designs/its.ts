@@ -671,6 +671,7 @@ function fittedSeries(panel: Panel, sample: Sample, y: Float64Array, terms: Term
       counterfactual: back(counterfactual, offset),
       counterfactualLow: ok ? back(counterfactual - half, offset) : null,
       counterfactualHigh: ok ? back(counterfactual + half, offset) : null,
+      ...(exposure ? { exposure: exposure[i] } : {}),
     })
   }
   return out
