@@ -45,3 +45,25 @@ test('the Validity step shows a computed verdict beside every threat', async ({ 
   await expect(page.getByTestId('its-fit')).toBeVisible()
   await snap(page, 'its-counterfactual-band')
 })
+
+test('a count model\'s series can be read per 1,000 of its denominator, with the counterfactual band', async ({ page }) => {
+  const analyst = await as('analyst')
+  const created = await analyst.post('/api/studies', {
+    title: `Filings as counts in the browser ${Date.now().toString(36)}`,
+    outcome: 'eviction_filings', transform: 'rate', denominator: 'renter_households', treated: [FIRST_ADOPTER], start: ADOPTED,
+  })
+  expect(created.status, JSON.stringify(created.body)).toBe(201)
+  const run = await analyst.post(`/api/studies/${created.body.id}/runs`, { design: 'its', options: { its: { family: 'quasipoisson', comparison: 'none' } } })
+  expect(run.status, JSON.stringify(run.body)).toBe(201)
+  const first = run.body.result.itsSeries[0]
+  expect(first.counterfactualLow).toBeLessThan(first.counterfactual)
+  expect(first.counterfactualHigh).toBeGreaterThan(first.counterfactual)
+
+  await signInAs(page, 'analyst')
+  await page.goto(`/studies/${created.body.id}/estimates`)
+  const scale = page.getByTestId('its-scale')
+  await expect(scale).toBeVisible()
+  await scale.selectOption({ label: 'Per 1,000' })
+  await expect(scale).toHaveValue('1000')
+  await snap(page, 'its-count-per-1000')
+})
