@@ -34,3 +34,11 @@ export function pUpperF(F: number, df1: number, df2: number): number {
 export function pUpperChi2(x: number, df: number): number {
   return 1 - chisqCdf(x, df)
 }
+
+/**
+ * Quantile of the standard normal, as Student t's with 1e10 df (equal to the normal's to about
+ * 1e-9, far below any reported digit).
+ */
+export function normalQuantileAt(p: number): number {
+  return tQuantile(p, 1e10)
+}

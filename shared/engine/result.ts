@@ -209,8 +209,13 @@ export interface EstimateResult {
   errors: { kind: 'newey_west' | 'ar1_ml' | 'ar1_reml' | 'prais_winsten'; rho: number | null } | null
   /** its with a comparison: which series the difference is taken against. */
   comparison: { kind: 'mean' | 'synthetic'; units: string[]; weights: Record<string, number> | null } | null
-  /** its: per period the modelled series (the difference series with a comparison), the fitted values and the counterfactual (no level or slope changes). */
-  itsSeries?: { period: string; observed: number; fitted: number; counterfactual: number }[] | null
+  /**
+   * its: per period the modelled series (the difference series with a comparison), the fitted values and the
+   * counterfactual (no level or slope changes), with its pointwise band at inference.level (x'b -/+ c sqrt(x'Vx) on the
+   * linear predictor, back-transformed for count models; absent in runs stored before the band existed). Count models
+   * with an exposure also carry it per period, so a reader can see counts as rates (per 1,000 or 100,000).
+   */
+  itsSeries?: { period: string; observed: number; fitted: number; counterfactual: number; counterfactualLow?: number | null; counterfactualHigh?: number | null; exposure?: number | null }[] | null
   /** its count models: Pearson dispersion chi2/(N-K) and deviance. */
   countFit: { dispersion: number; deviance: number } | null
   /** its: residual autocorrelations at lags 1..min(24, N/4) (OLS, whitened AR(1) or Pearson residuals by model). */

@@ -47,7 +47,7 @@ describe('workbook download', () => {
   })
 
   it('holds every sheet with a frozen header row', () => {
-    expect(wb.worksheets.map(w => w.name)).toEqual(['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Group-time', 'Decomposition', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Robustness', 'Validity', 'Provenance'])
+    expect(wb.worksheets.map(w => w.name)).toEqual(['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Group-time', 'Decomposition', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Robustness', 'Validity', 'Threat evidence', 'Provenance'])
     for (const ws of wb.worksheets) expect(ws.views[0], ws.name).toMatchObject({ state: 'frozen', ySplit: 1 })
   })
 

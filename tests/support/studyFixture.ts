@@ -37,7 +37,7 @@ function ok(res: { status: number, body: unknown }, expected: number, what: stri
 
 const tagOf = () => `${Date.now().toString(36)}${Math.random().toString(36).slice(2, 5)}`.toUpperCase()
 
-async function importCsv(client: Client, sourceId: number, csv: string, mapping: unknown, label: string) {
+export async function importCsv(client: Client, sourceId: number, csv: string, mapping: unknown, label: string) {
   const form = new FormData()
   form.append('file', new Blob([Buffer.from(csv)]), 'roads-demo.csv')
   form.append('mapping', JSON.stringify(mapping))

@@ -89,7 +89,8 @@ import type { Coefficient, EstimateResult } from '../../../shared/engine/result'
 import { type Spec, itsOptionsSchema } from '../../../shared/engine/spec'
 import { PeriodError, seasonOf } from '../../../shared/utils/periods'
 import { type Ar1Method, fitAr1, residualAutocorrelation } from '../ar1Regression'
-import { pTwoSidedNormal, pTwoSidedT, tQuantileAt } from '../distributions'
+import type { Matrix } from 'ml-matrix'
+import { normalQuantileAt, pTwoSidedNormal, pTwoSidedT, tQuantileAt } from '../distributions'
 import { EngineError, listSome } from '../errors'
 import { type Panel, periodLabel, periodOrdinal, unitIndices } from '../panel'
 import { Z975, exposureOffset, fitPoisson, rateRatio } from '../poissonRegression'
@@ -610,33 +611,67 @@ export function estimateIts(panel: Panel, spec: Spec): EstimateResult {
   )
   result.coefficients = model.coefficients
   result.residualAcf = residualAcf
-  result.itsSeries = fittedSeries(panel, sample, y, terms, model.coefficients, family !== 'gaussian' && its.exposure ? sample.column(its.exposure) : null, family !== 'gaussian')
+  const level = spec.inference?.level ?? 0.95
+  const band = { names: model.fit.names, vcov: model.fit.vcov, critical: family === 'poisson' ? normalQuantileAt(0.5 + level / 2) : tQuantileAt(0.5 + level / 2, model.fit.df) }
+  result.itsSeries = fittedSeries(panel, sample, y, terms, model.coefficients, family !== 'gaussian' && its.exposure ? sample.column(its.exposure) : null, family !== 'gaussian', band)
   return result
 }
+
+/** What the counterfactual band needs: the coefficient names in vcov order, the model's covariance and the critical value. */
+interface BandInput {
+  names: string[]
+  vcov: Matrix
+  critical: number
+}
+
+const CHANGE_TERM = /^(level|slope)(_\d+)?$/
 
 /**
  * Observed, fitted and counterfactual series for the chart: fitted = the model's prediction;
  * counterfactual = the same without the level and slope terms, i.e. the pre-period trend
  * (and seasons) projected past every break. Count models: exp of the linear predictor plus
  * the log exposure.
+ *
+ * The counterfactual band is the pointwise interval of the linear predictor x'b at the row x
+ * with every level and slope term set to 0:
+ *
+ *   x'b -/+ c sqrt(x' V x)
+ *
+ * with V the model's covariance (Newey-West, AR(1) GLS, or the Poisson / quasi-Poisson one on
+ * the log scale) and c the quantile at the spec's inference.level (Student t on the model's
+ * df; the normal for "poisson"). Count models transform both ends with exp (plus the log
+ * exposure), so the band is on the count scale and not symmetric. It describes the
+ * uncertainty of the projected pre-period trend only, not of a new observation.
  */
-function fittedSeries(panel: Panel, sample: Sample, y: Float64Array, terms: Term[], coefficients: Record<string, { estimate: number }>, exposure: Float64Array | null, count: boolean) {
+function fittedSeries(panel: Panel, sample: Sample, y: Float64Array, terms: Term[], coefficients: Record<string, { estimate: number }>, exposure: Float64Array | null, count: boolean, band: BandInput) {
   const b0 = coefficients.intercept?.estimate ?? 0
   const out: NonNullable<EstimateResult['itsSeries']> = []
+  const byName = new Map(terms.map((t) => [t.name, t.values]))
+  const k = band.names.length
+  const x = new Float64Array(k)
+  const back = (eta: number, offset: number) => (count ? Math.exp(eta + offset) : eta)
   for (let i = 0; i < sample.n; i++) {
     let fitted = b0
     let counterfactual = b0
     for (const t of terms) {
       const v = (coefficients[t.name]?.estimate ?? 0) * t.values[i]
       fitted += v
-      if (!/^(level|slope)(_\d+)?$/.test(t.name)) counterfactual += v
+      if (!CHANGE_TERM.test(t.name)) counterfactual += v
     }
+    band.names.forEach((name, j) => (x[j] = name === 'intercept' ? 1 : CHANGE_TERM.test(name) ? 0 : (byName.get(name)?.[i] ?? 0)))
+    let q = 0
+    for (let a = 0; a < k; a++) for (let c = 0; c < k; c++) q += x[a] * band.vcov.get(a, c) * x[c]
+    const half = band.critical * Math.sqrt(Math.max(q, 0))
     const offset = exposure ? Math.log(exposure[i]) : 0
+    const ok = Number.isFinite(half)
     out.push({
       period: periodLabel(panel, sample.ordinal[i]),
       observed: y[i],
-      fitted: count ? Math.exp(fitted + offset) : fitted,
-      counterfactual: count ? Math.exp(counterfactual + offset) : counterfactual,
+      fitted: back(fitted, offset),
+      counterfactual: back(counterfactual, offset),
+      counterfactualLow: ok ? back(counterfactual - half, offset) : null,
+      counterfactualHigh: ok ? back(counterfactual + half, offset) : null,
+      ...(exposure ? { exposure: exposure[i] } : {}),
     })
   }
   return out

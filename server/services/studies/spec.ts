@@ -24,10 +24,11 @@ export interface StudyForSpec {
 
 export type RunOptions = z.output<typeof runOptionsSchema>
 
-/** Each treated unit's first treated period. */
+/** Each treated unit's first treated period (a year stored as "2007" may come back from jsonb as the number 2007). */
 export function startsOf(study: Pick<StudyForSpec, 'treated' | 'start'>): Record<string, string> {
   const out: Record<string, string> = {}
-  for (const code of study.treated) out[code] = typeof study.start === 'string' ? study.start : study.start[code]!
+  const start = study.start as StudyForSpec['start'] | number
+  for (const code of study.treated) out[code] = typeof start === 'object' ? String(start[code]!) : String(start)
   return out
 }
 

@@ -7,7 +7,7 @@
  *
  * Sheets: Summary, Coefficients, Inference, Weighted comparison, Group-time (staggered
  * adoption), Decomposition (of a two-way estimate), Event study, Pre-trend tests, Donor pool,
- * Panel rows, Robustness, Validity, Provenance. Numbers are number cells with number formats; every table has a
+ * Panel rows, Robustness, Validity, Threat evidence, Provenance. Numbers are number cells with number formats; every table has a
  * frozen header row and set column widths.
  *
  * Formula injection: no cell is ever written as a formula. exceljs stores a JavaScript string
@@ -24,6 +24,7 @@ import { DECOMPOSITION_LABELS, designLabel } from '../../../shared/delivery/labe
 import { METHOD_LABELS, breaksOfSpec, inferenceText, termLabels } from '../../../shared/delivery/inference'
 import { ASSESSMENT_LABELS, THREATS, type Assessment } from '../../../shared/schemas/validity'
 import { robustnessSheet, type WorkbookRobustness } from './robustnessSheet'
+import { threatEvidenceSheet, type WorkbookThreatEvidence } from './threatEvidenceSheet'
 
 export interface WorkbookPoolRow {
   jurisdiction: string
@@ -100,12 +101,14 @@ export interface WorkbookInput {
   validity: WorkbookValidityNote[]
   /** Finished robustness checks of the run (the Robustness sheet). */
   robustness?: WorkbookRobustness[]
+  /** Computed evidence on each threat (threatEvidenceSheet.ts); absent: the sheet says it was not computed. */
+  threatEvidence?: WorkbookThreatEvidence | null
   releases: WorkbookRelease[]
   software: { name: string, version: string }
   generated: { at: Date, by: string }
 }
 
-export const SHEETS = ['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Group-time', 'Decomposition', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Robustness', 'Validity', 'Provenance'] as const
+export const SHEETS = ['Summary', 'Coefficients', 'Inference', 'Weighted comparison', 'Group-time', 'Decomposition', 'Event study', 'Pre-trend tests', 'Donor pool', 'Panel rows', 'Robustness', 'Validity', 'Threat evidence', 'Provenance'] as const
 
 export const FORMATS = {
   estimate: '0.0000',
@@ -528,6 +531,7 @@ export async function buildWorkbook(input: WorkbookInput): Promise<Buffer> {
   panelRows(wb, input).commit()
   robustnessSheet(wb, input.robustness ?? []).commit()
   validity(wb, input.validity).commit()
+  threatEvidenceSheet(wb, input.threatEvidence).commit()
   provenance(wb, input).commit()
   await wb.commit()
   await ended

@@ -12,6 +12,7 @@ import { loadRunRows } from '../studies/runData'
 import { OUTCOME } from '../studies/rows'
 import { robustnessForRun } from '../robustness/forRun'
 import { buildWorkbook, type WorkbookInput, workbookFileName } from './build'
+import { evidenceForWorkbook } from '../validity/evidence'
 
 export async function workbookInput(studyId: number, runId: number, user: SessionUser): Promise<WorkbookInput> {
   const { run, study, rows, pool } = await loadRunRows(runId)
@@ -30,6 +31,7 @@ export async function workbookInput(studyId: number, runId: number, user: Sessio
     run.createdBy ? db.select({ name: users.name, email: users.email }).from(users).where(eq(users.id, run.createdBy)) : Promise.resolve([]),
     study.status === 'approved' ? approvalOf(studyId) : Promise.resolve(null),
   ])
+  const threatEvidence = await evidenceForWorkbook(study)
   const label = new Map(measureRows.map(m => [m.key, `${m.label} (${m.key}, ${m.unit})`]))
   const valueKeys = [...new Set(rows.flatMap(r => Object.keys(r.values)))]
   const outcomeHeader = `${label.get(study.outcome) ?? study.outcome}${study.transform === 'rate' && study.denominator ? ` per 1,000 ${study.denominator}` : ''}`
@@ -51,6 +53,7 @@ export async function workbookInput(studyId: number, runId: number, user: Sessio
     panelColumns: valueKeys.map(key => ({ key, header: key === OUTCOME ? outcomeHeader : label.get(key) ?? key })),
     validity: notes.map(n => ({ threat: n.threat, assessment: n.assessment, note: n.note, evidence: n.evidence })),
     robustness: await robustnessForRun(run.id),
+    threatEvidence,
     releases,
     software: { name: 'Counterpart', version: pkg.version },
     generated: { at: new Date(), by: `${user.name} (${user.email})` },

@@ -22,6 +22,7 @@ export async function runReport(studyId: number, runId: number, user: SessionUse
     pool: input.pool,
     validity: await readValidity(useDb(), studyId),
     robustness: input.robustness ?? [],
+    threatEvidence: input.threatEvidence ?? null,
     releases: input.releases,
     cautions: allCautions(input.run.result, input.study.treated.length),
     software: input.software,

@@ -68,3 +68,17 @@ describe('buildRunSpec', () => {
     expect(isCountModel('did', {})).toBe(false)
   })
 })
+
+describe('startsOf', () => {
+  it('reads a year start that jsonb returns as a number, and per-unit starts', async () => {
+    const { startsOf } = await import('../../../../server/services/studies/spec')
+    expect(startsOf({ treated: ['A', 'B'], start: 2007 as unknown as string })).toEqual({ A: '2007', B: '2007' })
+    expect(startsOf({ treated: ['A'], start: '2017-07' })).toEqual({ A: '2017-07' })
+    expect(startsOf({ treated: ['A', 'B'], start: { A: '2007', B: 2009 as unknown as string } })).toEqual({ A: '2007', B: '2009' })
+  })
+  it('an event study on a year start gets its window from the start (no error)', () => {
+    const years = Array.from({ length: 12 }, (_, i) => String(2001 + i))
+    const spec = buildRunSpec({ ...study, start: 2007 as unknown as string, interventions: [] }, 'event_study', {}, pool, years)
+    expect(spec.eventWindow).toMatchObject({ from: -5, reference: -1 })
+  })
+})
