@@ -20,7 +20,8 @@ export function securityOptions(uploadLimitBytes: number) {
       contentSecurityPolicy: {
         'default-src': ['\'self\''],
         'base-uri': ['\'none\''],
-        'connect-src': ['\'self\''],
+        // data: and blob: let the chart PNG export read back the image it drew (app/utils/chartPng.ts)
+        'connect-src': ['\'self\'', 'data:', 'blob:'],
         'font-src': ['\'self\'', 'data:'],
         'form-action': ['\'self\''],
         'frame-ancestors': ['\'none\''],
