@@ -8,8 +8,9 @@
 import type { H3Event } from 'h3'
 import { eq } from 'drizzle-orm'
 import { studies } from '~~/db/schema'
-import { studyAccess, type StudyAction } from '../services/studies/access'
+import { changeableNow, studyAccess, type StudyAction } from '../services/studies/access'
 import type { SessionUser } from './auth'
+import type { Db } from './db'
 
 export type Study = typeof studies.$inferSelect
 
@@ -25,4 +26,16 @@ export async function requireStudy(event: H3Event, id: number, action: StudyActi
   if (!study) throw createError({ statusCode: 404, message: `No study with id ${id}.` })
   assertStudyAccess(study, user, action)
   return { user, study }
+}
+
+/**
+ * Inside a write's transaction: lock the study row and check again that it may change. A review
+ * request takes the same lock, so it cannot slip in between requireStudy and the write.
+ */
+export async function lockStudyForChange(tx: Pick<Db, 'select'>, studyId: number): Promise<Study> {
+  const [study] = await tx.select().from(studies).where(eq(studies.id, studyId)).for('update')
+  if (!study) throw createError({ statusCode: 404, message: `No study with id ${studyId}.` })
+  const decision = changeableNow(study)
+  if (!decision.ok) throw createError({ statusCode: decision.statusCode, message: decision.message })
+  return study
 }

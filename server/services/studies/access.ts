@@ -32,15 +32,20 @@ const refuse = (statusCode: 403 | 409, message: string): AccessDecision => ({ ok
 const isOwnerOrAdmin = (study: AccessSubject, actor: AccessActor) =>
   actor.role === 'admin' || (actor.role === 'analyst' && study.ownerId === actor.id)
 
+/** The state half of 'write': may a study in this state change at all (whoever asks)? */
+export function changeableNow(study: Pick<AccessSubject, 'status' | 'lockedAt'>): AccessDecision {
+  if (isLocked(study)) return refuse(409, LOCKED_MESSAGE)
+  if (study.status === 'in_review') return refuse(409, IN_REVIEW_MESSAGE)
+  return ok
+}
+
 export function studyAccess(study: AccessSubject, actor: AccessActor, action: StudyAction): AccessDecision {
   switch (action) {
     case 'read':
       return ok
     case 'write':
       if (!isOwnerOrAdmin(study, actor)) return refuse(403, 'Only the study\'s owner or an administrator can change this study.')
-      if (isLocked(study)) return refuse(409, LOCKED_MESSAGE)
-      if (study.status === 'in_review') return refuse(409, IN_REVIEW_MESSAGE)
-      return ok
+      return changeableNow(study)
     case 'request':
       if (actor.role === 'reviewer') return refuse(403, 'Reviewers approve or return studies; the study\'s owner requests the review.')
       if (!isOwnerOrAdmin(study, actor)) return refuse(403, 'Only the study\'s owner or an administrator can request a review.')

@@ -132,6 +132,7 @@ export async function updateStudy(study: StudyRecord, user: SessionUser, patch: 
   }
   await checkReferences(next as Fields)
   return useDb().transaction(async (tx) => {
+    await lockStudyForChange(tx, study.id)
     const [after] = await tx.update(studies).set({ ...next, ...(patch.status ? { status: patch.status } : {}), updatedAt: new Date() })
       .where(eq(studies.id, study.id)).returning()
     // a unit that is now treated cannot stay in its own comparison pool
