@@ -13,7 +13,7 @@ free_port() { for pid in $(ss -ltnpH "sport = :$1" 2>/dev/null | grep -o 'pid=[0
 free_port "$PORT_"; free_port 2526
 sleep 0.5
 SMTP_PORT=2526 HTTP_PORT=2581 MAIL_STORE="$DATA_DIR/mail/test-messages.json" nohup npx tsx scripts/mail-catcher.ts > "$DATA_DIR/logs/test-mail.log" 2>&1 &
-HOST=127.0.0.1 PORT=$PORT_ NUXT_AUTH_SECRET=counterpart-test-secret AUTH_ORIGIN="http://127.0.0.1:$PORT_/api/auth" \
+HOST=127.0.0.1 PORT=$PORT_ NUXT_AUTH_SECRET="$(random_secret)" AUTH_ORIGIN="http://127.0.0.1:$PORT_/api/auth" \
   PUBLIC_ORIGIN="http://127.0.0.1:$PORT_" NUXT_SMTP_PORT=2526 NUXT_MAIL_CATCHER_URL=http://127.0.0.1:2581 \
   nohup node .output/server/index.mjs > "$DATA_DIR/logs/test-app.log" 2>&1 &
 echo "test server on http://127.0.0.1:$PORT_ (pid $!)"

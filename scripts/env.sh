@@ -35,3 +35,19 @@ ensure_chromium() {
     apt_install chromium || return 1
   fi
 }
+
+# The session secret for npm start: made once (48 random bytes, base64) and kept in the git-ignored
+# .data/auth-secret (mode 600), then reused so sessions survive a restart. Prints it.
+ensure_auth_secret() {
+  local file="$DATA_DIR/auth-secret"
+  mkdir -p "$DATA_DIR"
+  if [ ! -s "$file" ]; then
+    (umask 077; node -e "process.stdout.write(require('node:crypto').randomBytes(48).toString('base64'))" > "$file")
+    log "generated a session secret in $file"
+  fi
+  chmod 600 "$file"
+  cat "$file"
+}
+
+# A fresh random secret (for a test server: tokens from any other run are worthless).
+random_secret() { node -e "process.stdout.write(require('node:crypto').randomBytes(48).toString('base64'))"; }

@@ -25,7 +25,8 @@ SMTP_PORT=2525 HTTP_PORT=2580 MAIL_STORE="$DATA_DIR/mail/messages.json" setsid n
 pids+=($!)
 
 export HOST=127.0.0.1 PORT="$APP_PORT"
-export NUXT_AUTH_SECRET="${NUXT_AUTH_SECRET:-counterpart-local-$(hostname)-secret}"
+NUXT_AUTH_SECRET="${NUXT_AUTH_SECRET:-$(ensure_auth_secret)}"
+export NUXT_AUTH_SECRET
 export AUTH_ORIGIN="http://127.0.0.1:$APP_PORT/api/auth"
 export PUBLIC_ORIGIN="http://127.0.0.1:$APP_PORT"
 export NUXT_SMTP_PORT=2525 NUXT_MAIL_CATCHER_URL="http://127.0.0.1:2580"

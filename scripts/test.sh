@@ -45,7 +45,7 @@ pids+=($!)
 rm -f "$DATA_DIR/mail/test-messages.json"
 
 export COUNTERPART_TEST_URL="http://127.0.0.1:$TEST_PORT"
-HOST=127.0.0.1 PORT=$TEST_PORT NUXT_AUTH_SECRET=counterpart-test-secret \
+HOST=127.0.0.1 PORT=$TEST_PORT NUXT_AUTH_SECRET="$(random_secret)" \
   AUTH_ORIGIN="$COUNTERPART_TEST_URL/api/auth" PUBLIC_ORIGIN="$COUNTERPART_TEST_URL" \
   NUXT_SMTP_PORT=$SMTP_TEST_PORT NUXT_MAIL_CATCHER_URL="$MAIL_CATCHER_URL" \
   setsid node .output/server/index.mjs > "$DATA_DIR/logs/test-app.log" 2>&1 &

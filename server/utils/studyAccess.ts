@@ -1,35 +1,41 @@
 /**
- * Who may do what with a study, in one place (every study route calls this):
- * - read: any signed-in user (reviewers read everything);
- * - write: admins, and analysts on their own studies; never reviewers; never a locked study
- *   (approved, or locked_at set): such edits are refused with 409 and a clear message.
- * Returns the study row and the user, or throws 401/403/404/409.
+ * requireStudy(event, id, action): the signed-in user and the study, or 401/403/404/409.
+ * Who may do what is decided in one place, server/services/studies/access.ts (read, write,
+ * request, withdraw, approve, return, version); this only loads the study and applies it.
+ * 'write' and 'version' first need a writer role (admin or analyst), so a reviewer gets the
+ * role refusal every writer route gives.
  */
 import type { H3Event } from 'h3'
 import { eq } from 'drizzle-orm'
 import { studies } from '~~/db/schema'
+import { changeableNow, studyAccess, type StudyAction } from '../services/studies/access'
 import type { SessionUser } from './auth'
+import type { Db } from './db'
 
 export type Study = typeof studies.$inferSelect
 
-export function isLocked(study: Pick<Study, 'status' | 'lockedAt'>): boolean {
-  return study.status === 'approved' || study.lockedAt !== null
+/** Throws the policy's refusal, if any, as an HTTP error. */
+export function assertStudyAccess(study: Study, user: SessionUser, action: StudyAction): void {
+  const decision = studyAccess(study, user, action)
+  if (!decision.ok) throw createError({ statusCode: decision.statusCode, message: decision.message })
 }
 
-export async function requireStudy(event: H3Event, id: number, mode: 'read' | 'write'): Promise<{ user: SessionUser, study: Study }> {
-  const user = await requireUser(event, mode === 'write' ? WRITERS : undefined)
+export async function requireStudy(event: H3Event, id: number, action: StudyAction): Promise<{ user: SessionUser, study: Study }> {
+  const user = await requireUser(event, action === 'write' || action === 'version' ? WRITERS : undefined)
   const [study] = await useDb().select().from(studies).where(eq(studies.id, id))
   if (!study) throw createError({ statusCode: 404, message: `No study with id ${id}.` })
-  if (mode === 'write') {
-    if (user.role !== 'admin' && study.ownerId !== user.id) {
-      throw createError({ statusCode: 403, message: 'Only the study\'s owner or an administrator can change this study.' })
-    }
-    if (isLocked(study)) {
-      throw createError({
-        statusCode: 409,
-        message: 'This study is approved and locked: its spec, pool, data and results cannot change. Start a new version to revise it.',
-      })
-    }
-  }
+  assertStudyAccess(study, user, action)
   return { user, study }
+}
+
+/**
+ * Inside a write's transaction: lock the study row and check again that it may change. A review
+ * request takes the same lock, so it cannot slip in between requireStudy and the write.
+ */
+export async function lockStudyForChange(tx: Pick<Db, 'select'>, studyId: number): Promise<Study> {
+  const [study] = await tx.select().from(studies).where(eq(studies.id, studyId)).for('update')
+  if (!study) throw createError({ statusCode: 404, message: `No study with id ${studyId}.` })
+  const decision = changeableNow(study)
+  if (!decision.ok) throw createError({ statusCode: decision.statusCode, message: decision.message })
+  return study
 }

@@ -11,7 +11,7 @@ export const auditQuerySchema = z.strictObject({
   action: optionalText,
   from: day,
   to: day,
-  before: z.coerce.number().int().positive().optional(),
+  before: z.coerce.number().int().positive().max(Number.MAX_SAFE_INTEGER).optional(), // audit ids are 64-bit
   limit: z.coerce.number().int().min(1).max(500).default(100),
 }).refine(q => !q.from || !q.to || q.from <= q.to, { message: 'from comes after to.', path: ['from'] })
 export type AuditQuery = z.output<typeof auditQuerySchema>

@@ -3,6 +3,7 @@
  * One set of schemas for the forms in the browser and the routes on the server.
  */
 import { z } from 'zod'
+import { idParams } from './ids'
 import { parsePeriod, PeriodError } from '../utils/periods'
 
 const trimmed = (what: string, max = 200) => z.string().trim().min(1, `Enter ${what}.`).max(max, `Keep ${what} under ${max} characters.`)
@@ -69,7 +70,7 @@ export const sourceCreateSchema = z.strictObject({
 })
 export type SourceCreate = z.input<typeof sourceCreateSchema>
 
-export const idParamSchema = z.object({ id: z.coerce.number().int().positive({ message: 'The id must be a positive whole number.' }) })
+export const idParamSchema = idParams('id')
 
 /** A period in any form periods.ts reads; kept in its canonical form. */
 export const periodSchema = z.union([z.string(), z.number()]).transform((v, ctx) => {

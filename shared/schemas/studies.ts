@@ -4,6 +4,7 @@
  * ("Payloads of the main routes").
  */
 import { z } from 'zod'
+import { idParams, recordId } from './ids'
 import { availableDesigns, eventWindowSchema, inferenceSchema, itsOptionsSchema, smallSampleChoices } from '../engine/spec'
 import type { DonorExclusion, DonorScoreRow } from '../engine/result'
 import { comparePeriods } from '../utils/periods'
@@ -106,10 +107,10 @@ export const studyListQuerySchema = z.object({
   mine: z.enum(['1', 'true']).optional(),
 })
 
-export const studyIdParamSchema = z.object({ id: z.coerce.number().int().positive({ message: 'The study id is a positive whole number.' }) })
+export const studyIdParamSchema = idParams('study id')
 export const runParamSchema = z.object({
-  id: z.coerce.number().int().positive({ message: 'The study id is a positive whole number.' }),
-  runId: z.coerce.number().int().positive({ message: 'The run id is a positive whole number.' }),
+  id: recordId('study id'),
+  runId: recordId('run id'),
 })
 
 /**

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { idParams } from './ids'
 
 export const roleSchema = z.enum(['admin', 'analyst', 'reviewer'])
 export type RoleName = z.infer<typeof roleSchema>
@@ -17,5 +18,5 @@ export const userPatchSchema = z.strictObject({
 export const invitationCreateSchema = z.strictObject({ email, name, role: roleSchema })
 export const invitationAcceptSchema = z.strictObject({ password: passwordSchema })
 
-export const idParamSchema = z.object({ id: z.coerce.number().int().positive() })
+export const idParamSchema = idParams('id')
 export const tokenParamSchema = z.object({ token: z.string().regex(/^[\w-]{20,100}$/, 'This invitation link is not valid.') })

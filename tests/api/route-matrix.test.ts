@@ -1,7 +1,7 @@
 /**
  * Every route under server/api, found by walking the folder (so new routes are covered
  * automatically): without a session each refuses with 401, and where the file declares a role
- * rule (requireUser(event, ADMIN) or WRITERS, or requireStudy(event, id, 'write')), the roles outside it get 403.
+ * rule (requireUser(event, ADMIN) or WRITERS, or requireStudy(event, id, 'write' | 'version')), the roles outside it get 403.
  * Public routes are listed here by name, with the reason.
  */
 import { readdirSync, readFileSync, statSync } from 'node:fs'
@@ -35,7 +35,7 @@ function toRoute(full: string): Route {
   const source = readFileSync(full, 'utf8')
   const rule = /requireUser\(event, ADMIN\)/.test(source)
     ? 'admin'
-    : /requireUser\(event, WRITERS\)|requireStudy\(event, [^)]*'write'\)/.test(source) ? 'writers' : 'any'
+    : /requireUser\(event, WRITERS\)|requireStudy\(event, [^)]*'(?:write|version)'\)/.test(source) ? 'writers' : 'any'
   return { file, method, path, rule }
 }
 

@@ -17,3 +17,8 @@ export async function closePool(): Promise<void> {
   await pool?.end()
   pool = undefined
 }
+
+/** Forgets failed sign-ins (all from the test runner's one address) so later files sign in at once. */
+export async function clearFailedSignIns(): Promise<void> {
+  await sql('DELETE FROM sign_in_attempts WHERE success = false')
+}

@@ -65,22 +65,40 @@ export class Client {
 
   /** Signs in; returns the error text next-auth reports, or null on success. */
   async signIn(email: string, password = DEMO_PASSWORD): Promise<string | null> {
+    return (await this.signInReply(email, password)).error
+  }
+
+  /**
+   * Signs in and returns the whole answer: the HTTP status (429 when throttled, with Retry-After
+   * in seconds) and the error text (from the ?error= of the url next-auth answers with).
+   */
+  async signInReply(email: string, password = DEMO_PASSWORD, headers: Record<string, string> = {}): Promise<{ status: number, error: string | null, retryAfter: number | null }> {
     const { body } = await this.get<{ csrfToken: string }>('/api/auth/csrf')
     const form = new URLSearchParams({ csrfToken: body.csrfToken, email, password, callbackUrl: `${BASE_URL}/`, json: 'true' })
     const res = await this.raw('/api/auth/callback/credentials', {
       method: 'POST',
       body: form,
-      headers: { 'content-type': 'application/x-www-form-urlencoded' },
+      headers: { 'content-type': 'application/x-www-form-urlencoded', ...headers },
     })
-    const reply = await res.json() as { url: string }
-    const error = new URL(reply.url).searchParams.get('error')
-    return error
+    const text = await res.text()
+    let reply: { url?: string, message?: string } = {}
+    try {
+      reply = JSON.parse(text)
+    }
+    catch { /* not JSON */ }
+    const error = reply.url ? new URL(reply.url).searchParams.get('error') : (reply.message ?? `HTTP ${res.status}: ${text.slice(0, 200)}`)
+    const retry = res.headers.get('retry-after')
+    return { status: res.status, error, retryAfter: retry ? Number(retry) : null }
   }
 }
 
-/** A client signed in as one of the demo roles (each call gets its own address for throttling). */
+/**
+ * A client signed in as one of the demo roles. Every test client signs in from the same address
+ * (the server ignores X-Forwarded-For): a test that makes failed sign-ins clears them afterwards
+ * (clearFailedSignIns in tests/support/db.ts) so the address throttle does not slow the rest.
+ */
 export async function as(role: keyof typeof DEMO): Promise<Client> {
-  const client = new Client({ 'x-forwarded-for': `test-client-${Math.random().toString(36).slice(2, 10)}` })
+  const client = new Client()
   const error = await client.signIn(DEMO[role])
   if (error) throw new Error(`could not sign in as ${role}: ${error}`)
   return client

@@ -1,19 +1,21 @@
 /**
  * /api/auth/* — sign-in with e-mail and password (next-auth credentials), session, sign-out.
- * Anyone may call it. Failed attempts are throttled per account and per address.
+ * Anyone may call it. Failed attempts are recorded here; server/middleware/20.signInThrottle.ts
+ * refuses attempts that come too soon after repeated failures, per account and per address.
  */
 import bcrypt from 'bcryptjs'
 import { eq } from 'drizzle-orm'
 import CredentialsImport from 'next-auth/providers/credentials'
 import { NuxtAuthHandler } from '#auth'
 import { users } from '~~/db/schema'
-import { recordAttempt, throttleMessage } from '../../services/signInThrottle'
+import { recordAttempt } from '../../services/signInThrottle'
 
 const CredentialsProvider = ((CredentialsImport as unknown as { default?: typeof CredentialsImport }).default ?? CredentialsImport)
 
+/** The caller's address as the throttle sees it (the socket, or the trusted proxy's word). */
 function requestAddress(): string {
   try {
-    return getRequestIP(useEvent(), { xForwardedFor: true }) ?? 'unknown'
+    return clientAddress(useEvent())
   }
   catch {
     return 'unknown'
@@ -21,7 +23,7 @@ function requestAddress(): string {
 }
 
 export default NuxtAuthHandler({
-  secret: process.env.NUXT_AUTH_SECRET || useRuntimeConfig().authSecret,
+  secret: authSecret(),
   session: { strategy: 'jwt', maxAge: 12 * 60 * 60 },
   pages: { signIn: '/login' },
   providers: [
@@ -32,10 +34,9 @@ export default NuxtAuthHandler({
         const email = String(credentials?.email ?? '').trim().toLowerCase()
         const password = String(credentials?.password ?? '')
         if (!email || !password) throw new Error('Enter your e-mail address and password.')
+        if (email.includes('\u0000') || password.includes('\u0000') || email.length > 320) throw new Error('That e-mail address and password do not match an active account.')
         const db = useDb()
         const ip = requestAddress()
-        const refused = await throttleMessage(db, email, ip)
-        if (refused) throw new Error(refused)
         const [user] = await db.select().from(users).where(eq(users.email, email))
         const ok = !!user && user.active && !!user.passwordHash && await bcrypt.compare(password, user.passwordHash)
         await recordAttempt(db, email, ip, ok)

@@ -7,7 +7,8 @@ import { auditLog, comments, studies, studyPoolDecisions, studyRuns, users, vali
 import type { ReviewAction } from '#shared/schemas/review'
 import type { SessionUser } from '../../utils/auth'
 import type { Study } from '../../utils/studyAccess'
-import { decideReview, reviewOutcomeMail, reviewRequestMail } from './rules'
+import { assertStudyAccess } from '../../utils/studyAccess'
+import { decideReview, reviewOutcomeMail, reviewRequestMail, reviewWithdrawnMail } from './rules'
 
 const reviewState = (s: Pick<Study, 'status' | 'reviewerId' | 'lockedAt'>) => ({ status: s.status, reviewerId: s.reviewerId, lockedAt: s.lockedAt })
 
@@ -46,7 +47,7 @@ export async function applyReview(user: SessionUser, studyId: number, body: Revi
       after: { ...reviewState(updated!), note: body.note ?? null },
     })
     if (body.note) {
-      const label = { request: 'Review requested', approve: 'Approved', return: 'Returned for changes' }[body.action]
+      const label = { request: 'Review requested', withdraw: 'Review request withdrawn', approve: 'Approved', return: 'Returned for changes' }[body.action]
       const [comment] = await tx.insert(comments).values({ studyId, authorId: user.id, body: `${label}: ${body.note}` }).returning()
       await audit(tx, { userId: user.id, action: 'create', entity: 'comment', entityId: comment!.id, after: comment })
     }
@@ -54,9 +55,13 @@ export async function applyReview(user: SessionUser, studyId: number, body: Revi
   })
 
   let mail: { to: string, sent: boolean, error?: string }
-  if (body.action === 'request') {
+  if (body.action === 'request' || body.action === 'withdraw') {
+    // withdraw keeps reviewer_id, so the reviewer who was asked hears that the request is off
     const [reviewer] = await db.select({ email: users.email }).from(users).where(eq(users.id, outcome.reviewerId!))
-    const sent = await sendMail({ to: reviewer!.email, ...reviewRequestMail(outcome, user.name, studyLink(studyId), body.note) })
+    const message = body.action === 'request'
+      ? reviewRequestMail(outcome, user.name, studyLink(studyId), body.note)
+      : reviewWithdrawnMail(outcome, user.name, studyLink(studyId), body.note)
+    const sent = await sendMail({ to: reviewer!.email, ...message })
     mail = { to: reviewer!.email, ...sent }
   }
   else {
@@ -75,7 +80,7 @@ export async function listThread(studyId: number) {
     .where(eq(comments.studyId, studyId)).orderBy(asc(comments.createdAt), asc(comments.id))
   const steps = await db.select({ id: auditLog.id, at: auditLog.at, action: auditLog.action, after: auditLog.after, by: users.name })
     .from(auditLog).leftJoin(users, eq(users.id, auditLog.userId))
-    .where(and(eq(auditLog.entity, 'study'), eq(auditLog.entityId, String(studyId)), inArray(auditLog.action, ['review.request', 'review.approve', 'review.return', 'version.create'])))
+    .where(and(eq(auditLog.entity, 'study'), eq(auditLog.entityId, String(studyId)), inArray(auditLog.action, ['review.request', 'review.withdraw', 'review.approve', 'review.return', 'version.create'])))
     .orderBy(asc(auditLog.at), asc(auditLog.id))
   return {
     comments: rows,
@@ -102,12 +107,7 @@ export async function listReviewers() {
  * parent_id pointing at it and the next version number of its family. Runs are not copied.
  */
 export async function createVersion(user: SessionUser, study: Study) {
-  if (user.role !== 'admin' && study.ownerId !== user.id) {
-    throw createError({ statusCode: 403, message: 'Only the study\'s owner or an administrator can start a new version.' })
-  }
-  if (!study.lockedAt && study.status !== 'approved') {
-    throw createError({ statusCode: 409, message: 'This study is not locked: change it directly. New versions start from an approved study.' })
-  }
+  assertStudyAccess(study, user, 'version')
   return useDb().transaction(async (tx) => {
     const [child] = await tx.select({ id: studies.id, version: studies.version }).from(studies).where(eq(studies.parentId, study.id)).limit(1)
     if (child) throw createError({ statusCode: 409, message: `Version ${child.version} of this study already exists (study #${child.id}); continue there.`, data: { studyId: child.id } })

@@ -1,34 +1,34 @@
 /**
- * Who may move a study through review, and to where (pure: the route and the tests use it).
- *   request: the owner analyst or an admin, on a draft          -> in_review
- *   approve: a reviewer (never an analyst, not even the owner), on a study in review -> approved, locked
- *   return:  a reviewer, on a study in review                   -> draft
+ * Where a review action takes a study (pure: the route and the tests use it). Who may take it is
+ * the study access policy (../studies/access.ts):
+ *   request:  the owner analyst or an admin, on a draft                    -> in_review
+ *   withdraw: the owner analyst or an admin, on a study in review          -> draft
+ *   approve:  a reviewer who does not own the study, on a study in review  -> approved, locked
+ *   return:   a reviewer who does not own the study, on a study in review  -> draft
  * Refusals carry the HTTP status the route answers with and a message a person understands.
  */
-export type ReviewActionName = 'request' | 'approve' | 'return'
-export type StudyStatus = 'draft' | 'in_review' | 'approved' | 'archived'
+import { studyAccess, type AccessActor, type AccessSubject, type StudyStatus } from '../studies/access'
 
-export interface ReviewSubject { status: StudyStatus, ownerId: number, lockedAt: Date | string | null }
-export interface ReviewActor { id: number, role: 'admin' | 'analyst' | 'reviewer' }
+export type ReviewActionName = 'request' | 'withdraw' | 'approve' | 'return'
+export type { StudyStatus }
+export type ReviewSubject = AccessSubject
+export type ReviewActor = AccessActor
 
 export type ReviewDecision =
   | { ok: true, status: StudyStatus, lock: boolean }
   | { ok: false, statusCode: 403 | 409, message: string }
 
-const STATUS_WORDS: Record<StudyStatus, string> = { draft: 'a draft', in_review: 'in review', approved: 'approved', archived: 'archived' }
+const NEXT: Record<ReviewActionName, { status: StudyStatus, lock: boolean }> = {
+  request: { status: 'in_review', lock: false },
+  withdraw: { status: 'draft', lock: false },
+  approve: { status: 'approved', lock: true },
+  return: { status: 'draft', lock: false },
+}
 
 export function decideReview(study: ReviewSubject, actor: ReviewActor, action: ReviewActionName): ReviewDecision {
-  if (action === 'request') {
-    if (actor.role === 'reviewer') return { ok: false, statusCode: 403, message: 'Reviewers approve or return studies; the study\'s owner requests the review.' }
-    if (actor.role === 'analyst' && study.ownerId !== actor.id) return { ok: false, statusCode: 403, message: 'Only the study\'s owner or an administrator can request a review.' }
-    if (study.status !== 'draft' || study.lockedAt) return { ok: false, statusCode: 409, message: `This study is ${STATUS_WORDS[study.status]}; only a draft can be sent for review.` }
-    return { ok: true, status: 'in_review', lock: false }
-  }
-  if (actor.role !== 'reviewer') {
-    return { ok: false, statusCode: 403, message: `Only a reviewer can ${action === 'approve' ? 'approve' : 'return'} a study; you are signed in as ${actor.role === 'admin' ? 'an admin' : 'an analyst'}.` }
-  }
-  if (study.status !== 'in_review') return { ok: false, statusCode: 409, message: `This study is ${STATUS_WORDS[study.status]}, not in review: there is nothing to ${action === 'approve' ? 'approve' : 'return'}.` }
-  return action === 'approve' ? { ok: true, status: 'approved', lock: true } : { ok: true, status: 'draft', lock: false }
+  const access = studyAccess(study, actor, action)
+  if (!access.ok) return access
+  return { ok: true, ...NEXT[action] }
 }
 
 export function reviewRequestMail(study: { id: number, title: string }, from: string, link: string, note?: string) {
@@ -39,6 +39,18 @@ export function reviewRequestMail(study: { id: number, title: string }, from: st
       ...(note ? ['', 'Their note:', note] : []),
       '',
       'Read it, comment, and approve or return it here:',
+      link,
+    ].join('\n'),
+  }
+}
+
+export function reviewWithdrawnMail(study: { id: number, title: string }, by: string, link: string, note?: string) {
+  return {
+    subject: `Review request withdrawn: ${study.title}`,
+    text: [
+      `${by} withdrew the review request for the study "${study.title}" (#${study.id}). It is a draft again; you will get a new request when it is ready.`,
+      ...(note ? ['', 'Their note:', note] : []),
+      '',
       link,
     ].join('\n'),
   }

@@ -34,6 +34,7 @@ export async function savePool(study: StudyRecord, user: SessionUser, body: z.ou
   const ids = new Map((await db.select({ id: jurisdictions.id, code: jurisdictions.code }).from(jurisdictions)
     .where(inArray(jurisdictions.code, body.decisions.map(d => d.jurisdiction)))).map(r => [r.code, r.id]))
   await db.transaction(async (tx) => {
+    await lockStudyForChange(tx, study.id)
     const before = await tx.select().from(studyPoolDecisions).where(eq(studyPoolDecisions.studyId, study.id))
     const values = body.decisions.map(d => ({ studyId: study.id, jurisdictionId: ids.get(d.jurisdiction)!, included: d.included, reason: d.reason, decidedBy: user.id, decidedAt: new Date() }))
     await tx.insert(studyPoolDecisions).values(values).onConflictDoUpdate({

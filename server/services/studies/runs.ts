@@ -90,6 +90,7 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
   const data: RunData = { source, frequency: read.frequency, releases: read.releases, pool: assemblePool(ctx, decisions).rows }
   const db = useDb()
   const id = await db.transaction(async (tx) => {
+    await lockStudyForChange(tx, study.id)
     const [row] = await tx.insert(studyRuns).values({
       studyId: study.id, design, spec, fingerprint, releaseIds: read.releaseIds, data: data as unknown as Record<string, unknown>,
       result: result as unknown as Record<string, unknown>, createdBy: userId,

@@ -11,6 +11,7 @@ import { parsePeriod } from '#shared/utils/periods'
 import { z } from 'zod'
 import type { SessionUser } from '../../utils/auth'
 import type { StudyRecord } from './runData'
+import { editState } from './access'
 
 type Create = z.output<typeof studyCreateSchema>
 type Patch = z.output<typeof studyPatchSchema>
@@ -102,14 +103,12 @@ export async function getStudy(study: StudyRecord, user: SessionUser) {
   const named = codes.length ? await db.select({ code: jurisdictions.code, name: jurisdictions.name }).from(jurisdictions).where(inArray(jurisdictions.code, codes)) : []
   const keys = [study.outcome, ...study.covariates, ...(study.denominator ? [study.denominator] : [])]
   const ms = await db.select({ key: measures.key, label: measures.label, unit: measures.unit, frequency: measures.frequency }).from(measures).where(inArray(measures.key, keys))
-  const locked = study.status === 'approved' || study.lockedAt !== null
   return {
     ...study,
     owner: owner?.name ?? null,
     names: Object.fromEntries(named.map(n => [n.code, n.name])),
     measures: Object.fromEntries(ms.map(m => [m.key, m])),
-    locked,
-    canEdit: !locked && (user.role === 'admin' || (user.role === 'analyst' && study.ownerId === user.id)),
+    ...editState(study, user),
   }
 }
 
@@ -133,6 +132,7 @@ export async function updateStudy(study: StudyRecord, user: SessionUser, patch: 
   }
   await checkReferences(next as Fields)
   return useDb().transaction(async (tx) => {
+    await lockStudyForChange(tx, study.id)
     const [after] = await tx.update(studies).set({ ...next, ...(patch.status ? { status: patch.status } : {}), updatedAt: new Date() })
       .where(eq(studies.id, study.id)).returning()
     // a unit that is now treated cannot stay in its own comparison pool

@@ -31,6 +31,7 @@ const shown = (n: Note | undefined) => (n ? { assessment: n.assessment, note: n.
 
 export async function writeValidity(user: SessionUser, studyId: number, body: z.output<typeof validityPutSchema>): Promise<ValidityEntry[]> {
   return useDb().transaction(async (tx) => {
+    await lockStudyForChange(tx, studyId)
     const existing = new Map((await tx.select().from(validityNotes).where(eq(validityNotes.studyId, studyId))).map(n => [n.threat, n]))
     for (const n of body.notes) {
       const before = existing.get(n.threat)

@@ -7,9 +7,8 @@ import { idParamSchema } from '#shared/schemas/users'
 import { createVersion } from '../../../services/review'
 
 export default defineEventHandler(async (event) => {
-  await requireUser(event, WRITERS)
   const { id } = await getValidatedRouterParams(event, check(idParamSchema, 'path'))
-  const { user, study } = await requireStudy(event, id, 'read')
+  const { user, study } = await requireStudy(event, id, 'version')
   setResponseStatus(event, 201)
   return createVersion(user, study)
 })

@@ -36,6 +36,23 @@ describe('decideReview', () => {
     expect(decideReview(draft, reviewer, 'return')).toMatchObject({ ok: false, statusCode: 409 })
   })
 
+  it('withdraw: owner or admin, from in review back to draft', () => {
+    expect(decideReview(inReview, owner, 'withdraw')).toEqual({ ok: true, status: 'draft', lock: false })
+    expect(decideReview(inReview, admin, 'withdraw')).toEqual({ ok: true, status: 'draft', lock: false })
+    expect(decideReview(inReview, otherAnalyst, 'withdraw')).toMatchObject({ ok: false, statusCode: 403 })
+    expect(decideReview(inReview, reviewer, 'withdraw')).toMatchObject({ ok: false, statusCode: 403 })
+    expect(decideReview(draft, owner, 'withdraw')).toMatchObject({ ok: false, statusCode: 409 })
+  })
+
+  it('an owner who holds the reviewer role can neither approve nor return their own study', () => {
+    const ownerReviewer = { id: 5, role: 'reviewer' as const }
+    for (const action of ['approve', 'return'] as const) {
+      const d = decideReview(inReview, ownerReviewer, action)
+      expect(d).toMatchObject({ ok: false, statusCode: 403 })
+      expect(d.ok || d.message).toContain('You own this study')
+    }
+  })
+
   it('mails carry the link and the note', () => {
     const req = reviewRequestMail({ id: 3, title: 'Fee cut' }, 'Ana', 'http://x.test/studies/3/review', 'Please look at the pool')
     expect(req.subject).toBe('Review requested: Fee cut')
