@@ -13,8 +13,13 @@ export function useStudyCandidates(id: MaybeRefOrGetter<number>) {
   return useFetch(() => `/api/studies/${toValue(id)}/candidates`, { key: `study-candidates-${toValue(id)}` })
 }
 
-export function useStudyTrends(id: MaybeRefOrGetter<number>) {
-  return useFetch(() => `/api/studies/${toValue(id)}/trends`, { key: `study-trends-${toValue(id)}`, server: false })
+/** `window`: the event study's window chosen on the Trends step (null: the one that follows the data). */
+export function useStudyTrends(id: MaybeRefOrGetter<number>, window: MaybeRefOrGetter<{ from: number, to: number } | null> = null) {
+  return useFetch(() => `/api/studies/${toValue(id)}/trends`, {
+    key: `study-trends-${toValue(id)}`,
+    server: false,
+    query: computed(() => { const w = toValue(window); return w ? { from: w.from, to: w.to } : {} }),
+  })
 }
 
 export function useStudyRuns(id: MaybeRefOrGetter<number>) {

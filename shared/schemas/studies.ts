@@ -130,7 +130,10 @@ export const poolPutSchema = z.strictObject({
     jurisdiction: jurisdictionCodeSchema,
     included: z.boolean({ message: 'included is true or false.' }),
     reason: z.string().trim().max(1000).optional().nullable().transform(v => (v ? v : null)),
-  })).min(1, 'Send at least one decision.').max(5000),
+  }).superRefine((d, ctx) => {
+    if (!d.included && d.reason === null) ctx.addIssue({ code: 'custom', path: ['reason'], message: `Excluding a jurisdiction needs a reason: say why ${d.jurisdiction} is left out of the pool.` })
+  }))
+    .min(1, 'Send at least one decision.').max(5000),
 })
 export type PoolPut = z.input<typeof poolPutSchema>
 
