@@ -26,9 +26,12 @@ export function useStudyRuns(id: MaybeRefOrGetter<number>) {
   return useFetch(() => `/api/studies/${toValue(id)}/runs`, { key: `study-runs-${toValue(id)}` })
 }
 
-/** The study list (status filter optional; `mine` for the caller's own). */
-export function useStudies(status: MaybeRefOrGetter<string>, mine: MaybeRefOrGetter<boolean> = false) {
+/** The study list, filtered on the server (every filter optional; `mine` for the caller's own). */
+export function useStudies(status: MaybeRefOrGetter<string>, mine: MaybeRefOrGetter<boolean> = false, more: MaybeRefOrGetter<{ owner?: string, outcome?: string }> = {}) {
   return useFetch('/api/studies', {
-    query: computed(() => ({ ...(toValue(status) ? { status: toValue(status) } : {}), ...(toValue(mine) ? { mine: '1' } : {}) })),
+    query: computed(() => {
+      const m = toValue(more)
+      return { ...(toValue(status) ? { status: toValue(status) } : {}), ...(toValue(mine) ? { mine: '1' } : {}), ...(m.owner ? { owner: m.owner } : {}), ...(m.outcome ? { outcome: m.outcome } : {}) }
+    }),
   })
 }

@@ -102,8 +102,12 @@ export const studyPatchSchema = z.strictObject({
 export type StudyPatch = z.input<typeof studyPatchSchema>
 
 export const studyListQuerySchema = z.object({
-  status: z.enum(STUDY_STATUSES).optional(),
+  status: z.enum(STUDY_STATUSES, { message: `status is one of ${STUDY_STATUSES.join(', ')}.` }).optional(),
   mine: z.enum(['1', 'true']).optional(),
+  /** The owner's user id. */
+  owner: z.coerce.number({ message: 'owner is a user id (a positive whole number).' }).int('owner is a user id (a positive whole number).').positive('owner is a user id (a positive whole number).').optional(),
+  /** The outcome measure's key. */
+  outcome: measureKeySchema.optional(),
 })
 
 export const studyIdParamSchema = z.object({ id: z.coerce.number().int().positive({ message: 'The study id is a positive whole number.' }) })
