@@ -27,7 +27,9 @@ export type RunOptions = z.output<typeof runOptionsSchema>
 /** Each treated unit's first treated period. */
 export function startsOf(study: Pick<StudyForSpec, 'treated' | 'start'>): Record<string, string> {
   const out: Record<string, string> = {}
-  for (const code of study.treated) out[code] = typeof study.start === 'string' ? study.start : study.start[code]!
+  // a stored "2007" can come back from jsonb as the number 2007
+  const start = study.start as unknown
+  for (const code of study.treated) out[code] = typeof start === 'string' || typeof start === 'number' ? String(start) : String((start as Record<string, string | number>)[code])
   return out
 }
 
