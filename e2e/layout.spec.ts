@@ -6,7 +6,8 @@ import { signInAs, snap } from './support/auth'
  * The workspace at a laptop's 1024 px and a desktop's 1440 px: the pool table keeps the
  * jurisdiction column in view and the Flags column reachable; a run card's links open the
  * report and download the workbook; an estimate can be run with the keyboard alone, from the
- * skip link to the new run card; the Trends step hydrates without warnings.
+ * skip link to the new run card; the Trends step hydrates without warnings; the studies list's
+ * filters live in the address; the Trends step refits a chosen event window.
  * On the invented study of tests/support/studyFixture.ts.
  */
 let f: StudyFixture
@@ -110,4 +111,30 @@ test('the Trends step hydrates without warnings', async ({ page }) => {
   await page.reload()
   await expect(page.getByTestId('lead-test')).toBeVisible()
   expect(warnings).toEqual([])
+})
+
+test('the studies list filters by outcome and owner, kept in the address; Trends refits a chosen event window', async ({ page }) => {
+  await page.setViewportSize({ width: 1024, height: 900 })
+  await signInAs(page, 'reviewer')
+  await page.goto('/studies')
+  await page.getByTestId('outcome-filter').selectOption(f.outcome)
+  await expect(page).toHaveURL(new RegExp(`outcome=${f.outcome}`))
+  const rows = page.getByTestId('studies-table').locator('tbody tr[data-study]')
+  await expect(rows.first()).toBeVisible()
+  for (const text of await rows.locator('td:nth-child(4)').allInnerTexts()) expect(text).toContain(f.outcome)
+  await page.getByTestId('owner-filter').selectOption({ label: 'Noor Analyst' })
+  await expect(page).toHaveURL(/owner=\d+/)
+  await page.reload()
+  await expect(page.getByTestId('outcome-filter')).toHaveValue(f.outcome)
+  await expect(page.getByTestId('studies-table').locator(`tr[data-study="${f.studyId}"]`)).toBeVisible()
+
+  await page.goto(`/studies/${f.studyId}/trends`)
+  await expect(page.getByTestId('event-window')).toBeVisible()
+  await page.getByTestId('event-from').fill('-3')
+  await page.getByTestId('event-to').fill('2')
+  const refit = page.waitForResponse(r => r.url().includes(`/api/studies/${f.studyId}/trends?`) && r.url().includes('from=-3'))
+  await page.getByTestId('event-window-apply').click()
+  expect((await refit).status()).toBe(200)
+  await expect(page.getByTestId('event-from')).toHaveValue('-3')
+  await expect(page.getByRole('button', { name: 'Window from the data' })).toBeVisible()
 })
