@@ -83,6 +83,8 @@ export const jurisdictions = pgTable('jurisdictions', {
   kind: text('kind').notNull(),
   region: text('region'),
   attributes: jsonb('attributes').$type<Record<string, unknown>>().notNull().default({}),
+  /** Set by an admin: hidden from pickers and from new studies' candidates; old studies keep it. */
+  archivedAt: timestamp('archived_at', { withTimezone: true }),
   createdAt: createdAt(),
 })
 
@@ -99,6 +101,8 @@ export const sources = pgTable('sources', {
   licence: text('licence'),
   notes: text('notes'),
   createdBy: integer('created_by').references(() => users.id),
+  /** Set by an admin: hidden from pickers; its releases and the studies that used them stay. */
+  archivedAt: timestamp('archived_at', { withTimezone: true }),
   createdAt: createdAt(),
 })
 
@@ -126,6 +130,8 @@ export const measures = pgTable('measures', {
   unit: text('unit').notNull(),
   kind: text('kind', { enum: ['outcome', 'covariate', 'denominator'] }).notNull(),
   frequency: text('frequency', { enum: ['year', 'quarter', 'month', 'week', 'day'] }).notNull(),
+  /** Set by an admin: hidden from pickers and refused for new studies; old studies keep it. */
+  archivedAt: timestamp('archived_at', { withTimezone: true }),
   createdAt: createdAt(),
 })
 

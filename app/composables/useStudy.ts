@@ -13,18 +13,26 @@ export function useStudyCandidates(id: MaybeRefOrGetter<number>) {
   return useFetch(() => `/api/studies/${toValue(id)}/candidates`, { key: `study-candidates-${toValue(id)}` })
 }
 
-export function useStudyTrends(id: MaybeRefOrGetter<number>) {
-  return useFetch(() => `/api/studies/${toValue(id)}/trends`, { key: `study-trends-${toValue(id)}`, server: false })
+/** `window`: the event study's window chosen on the Trends step (null: the one that follows the data). */
+export function useStudyTrends(id: MaybeRefOrGetter<number>, window: MaybeRefOrGetter<{ from: number, to: number } | null> = null) {
+  return useFetch(() => `/api/studies/${toValue(id)}/trends`, {
+    key: `study-trends-${toValue(id)}`,
+    server: false,
+    query: computed(() => { const w = toValue(window); return w ? { from: w.from, to: w.to } : {} }),
+  })
 }
 
 export function useStudyRuns(id: MaybeRefOrGetter<number>) {
   return useFetch(() => `/api/studies/${toValue(id)}/runs`, { key: `study-runs-${toValue(id)}` })
 }
 
-/** The study list (status filter optional; `mine` for the caller's own). */
-export function useStudies(status: MaybeRefOrGetter<string>, mine: MaybeRefOrGetter<boolean> = false) {
+/** The study list, filtered on the server (every filter optional; `mine` for the caller's own). */
+export function useStudies(status: MaybeRefOrGetter<string>, mine: MaybeRefOrGetter<boolean> = false, more: MaybeRefOrGetter<{ owner?: string, outcome?: string }> = {}) {
   return useFetch('/api/studies', {
-    query: computed(() => ({ ...(toValue(status) ? { status: toValue(status) } : {}), ...(toValue(mine) ? { mine: '1' } : {}) })),
+    query: computed(() => {
+      const m = toValue(more)
+      return { ...(toValue(status) ? { status: toValue(status) } : {}), ...(toValue(mine) ? { mine: '1' } : {}), ...(m.owner ? { owner: m.owner } : {}), ...(m.outcome ? { outcome: m.outcome } : {}) }
+    }),
   })
 }
 

@@ -5,29 +5,80 @@
  * simultaneous band, the group-time effects by cohort and the two-by-two comparisons of a
  * two-way estimate. Pure: returns chart.js configurations, draws nothing.
  */
-import type { ChartConfiguration, PointStyle } from 'chart.js'
+import type { ChartConfiguration, Plugin, PointStyle } from 'chart.js'
 import type { DecompositionRow, EventStudyPoint, GroupTimeCell, StaggeredResult } from '#shared/engine/result'
 import { type DecompositionPoint, type DecompositionType, type GroupTimeAxis, cohortLines, decompositionGroups, decompositionSummary, eventTimeSeries } from './staggeredCharts'
 
 export const CHART_COLOURS = { treated: '#b1502b', comparison: '#2d6b5f', band: 'rgba(45,107,95,0.18)', zero: '#8a9499' }
 
-export function trendChart(series: { periods: string[], treated: (number | null)[], comparison: (number | null)[] }, label: string): ChartConfiguration<'line'> {
+/** A dashed vertical line with its label at each marked period (policy start, later interventions). */
+export function periodMarksPlugin(marks: readonly { index: number, label: string }[]): Plugin<'line'> {
+  return {
+    id: 'reportPeriodMarks',
+    afterDatasetsDraw(chart) {
+      const x = chart.scales.x
+      if (!x) return
+      const { top, bottom } = chart.chartArea
+      const ctx = chart.ctx
+      ctx.save()
+      ctx.strokeStyle = CHART_COLOURS.treated
+      ctx.fillStyle = '#8e3d1f'
+      ctx.setLineDash([4, 3])
+      ctx.font = '11px "Source Sans 3", sans-serif'
+      marks.forEach((m, k) => {
+        const px = x.getPixelForValue(m.index)
+        ctx.beginPath()
+        ctx.moveTo(px, top)
+        ctx.lineTo(px, bottom)
+        ctx.stroke()
+        ctx.fillText(m.label, px + 3, top + 11 + 12 * (k % 3))
+      })
+      ctx.restore()
+    },
+  }
+}
+
+/** Splits a long axis title into lines of at most `width` characters, so it is not cut at the chart's edge. */
+export function wrapTitle(text: string, width = 42): string | string[] {
+  if (text.length <= width) return text
+  const lines: string[] = []
+  let current = ''
+  for (const word of text.split(/\s+/)) {
+    if (current && (current + ' ' + word).length > width) {
+      lines.push(current)
+      current = word
+    }
+    else current = current ? `${current} ${word}` : word
+  }
+  if (current) lines.push(current)
+  return lines
+}
+
+/**
+ * Treated and comparison means over time with the policy start and later interventions marked.
+ * A study without comparison units (a single-series interrupted time series) draws the treated
+ * series alone: no legend entry for a line that is not there.
+ */
+export function trendChart(series: { periods: string[], treated: (number | null)[], comparison: (number | null)[] }, label: string, marks: readonly { period: string, label: string }[] = []): ChartConfiguration<'line'> {
+  const hasComparison = series.comparison.some(v => v !== null)
+  const datasets: ChartConfiguration<'line'>['data']['datasets'] = [
+    { label: hasComparison ? 'Treated' : 'Treated jurisdiction', data: series.treated, borderColor: CHART_COLOURS.treated, backgroundColor: CHART_COLOURS.treated, pointRadius: 2, borderWidth: 2, spanGaps: true },
+  ]
+  if (hasComparison) datasets.push({ label: 'Comparison mean', data: series.comparison, borderColor: CHART_COLOURS.comparison, backgroundColor: CHART_COLOURS.comparison, pointRadius: 2, borderWidth: 2, borderDash: [6, 3], spanGaps: true })
+  const at = new Map(series.periods.map((p, i) => [p, i]))
+  const placed = marks.filter(m => at.has(m.period)).map(m => ({ index: at.get(m.period)!, label: m.label }))
   return {
     type: 'line',
-    data: {
-      labels: series.periods,
-      datasets: [
-        { label: 'Treated', data: series.treated, borderColor: CHART_COLOURS.treated, backgroundColor: CHART_COLOURS.treated, pointRadius: 2, borderWidth: 2, spanGaps: true },
-        { label: 'Comparison mean', data: series.comparison, borderColor: CHART_COLOURS.comparison, backgroundColor: CHART_COLOURS.comparison, pointRadius: 2, borderWidth: 2, borderDash: [6, 3], spanGaps: true },
-      ],
-    },
+    data: { labels: series.periods, datasets },
     options: {
       animation: false,
       responsive: true,
       maintainAspectRatio: false,
-      plugins: { legend: { position: 'bottom' } },
-      scales: { y: { title: { display: true, text: label } } },
+      layout: { padding: { left: 4, right: 8, top: 4 } },
+      plugins: { legend: { position: 'bottom', display: hasComparison } },
+      scales: { x: { ticks: { maxTicksLimit: 12 } }, y: { title: { display: true, text: wrapTitle(label), font: { size: 11 } } } },
     },
+    plugins: [periodMarksPlugin(placed)],
   }
 }
 

@@ -5,6 +5,7 @@
  */
 import type { EstimateResult } from '../engine/result'
 import { ESTIMATE_CAUTIONS } from '../schemas/studies'
+import { warningText } from './warnings'
 
 /** The cautions that stand beside every estimate (one list, kept with the study schemas). */
 export const STANDING_CAUTIONS = ESTIMATE_CAUTIONS
@@ -12,14 +13,18 @@ export const STANDING_CAUTIONS = ESTIMATE_CAUTIONS
 /** Below this many clusters, cluster-robust errors are known to be fragile. */
 export const FEW_CLUSTERS = 30
 
-type CautionInput = Pick<EstimateResult, 'design' | 'nClusters' | 'preTrend' | 'warnings'> & Partial<Pick<EstimateResult, 'inference'>>
+type CautionInput = Pick<EstimateResult, 'design' | 'nClusters' | 'preTrend' | 'warnings'> & Partial<Pick<EstimateResult, 'inference' | 'comparison'>>
 
 export function resultCautions(result: CautionInput, treatedUnits: number): string[] {
   const out: string[] = []
   const analytic = !result.inference || result.inference.method === 'analytic'
   if (result.design === 'pre_post') out.push('Pre/post comparison of the treated units alone: there is no comparison group, so anything else that changed at the same time is counted as the policy\'s effect. Treat it as weak evidence.')
-  if (treatedUnits > 0 && treatedUnits <= 2) {
-    const tail = analytic && result.nClusters != null ? ', and clustered errors understate the uncertainty' : ''
+  if (result.design === 'its' && !result.comparison && treatedUnits === 1) {
+    // a single series: no clusters and no comparison group, so the clustered-error caution does not apply
+    out.push('One jurisdiction\'s series alone: the effect is read from the break in its own trend, so anything else that changed at the same time is counted as the policy\'s effect.')
+  }
+  else if (treatedUnits > 0 && treatedUnits <= 2) {
+    const tail = analytic && result.nClusters != null && result.design !== 'its' ? ', and clustered errors understate the uncertainty' : ''
     out.push(`Only ${treatedUnits} treated unit${treatedUnits === 1 ? '' : 's'}: the effect rests on ${treatedUnits === 1 ? 'one jurisdiction' : 'two jurisdictions'}${tail}.`)
   }
   if (analytic && result.nClusters != null && result.nClusters < FEW_CLUSTERS) out.push(`${result.nClusters} clusters: fewer than ${FEW_CLUSTERS}, so cluster-robust errors may be too small; placebo units or the wild cluster bootstrap are safer.`)
@@ -35,7 +40,7 @@ export function resultCautions(result: CautionInput, treatedUnits: number): stri
   }
   const slope = result.preTrend?.slopeDiff
   if (slope && Number.isFinite(slope.p) && slope.p < 0.1) out.push(`Treated and comparison units trended differently before the policy (slope difference p = ${slope.p.toFixed(3)}).`)
-  for (const w of result.warnings) out.push(`Engine warning: ${w}`)
+  for (const w of result.warnings) out.push(warningText(w))
   return out
 }
 

@@ -220,7 +220,14 @@ export interface EstimateResult {
   countFit: { dispersion: number; deviance: number } | null
   /** its: residual autocorrelations at lags 1..min(24, N/4) (OLS, whitened AR(1) or Pearson residuals by model). */
   residualAcf?: number[] | null
+  /** Short technical sentences from the design; shared/delivery/warnings.ts gives each a plain message with this text as its detail. */
   warnings: string[]
+}
+
+/** A warning as a reader sees it: what it means in plain words, and the technical text one click away. */
+export interface ResultWarning {
+  message: string
+  detail: string | null
 }
 
 export type DonorScoreName = 'rmspe' | 'rmspeDemeaned' | 'correlation' | 'slopeDiff' | 'covariateDistance'

@@ -103,8 +103,12 @@ export const studyPatchSchema = z.strictObject({
 export type StudyPatch = z.input<typeof studyPatchSchema>
 
 export const studyListQuerySchema = z.object({
-  status: z.enum(STUDY_STATUSES).optional(),
+  status: z.enum(STUDY_STATUSES, { message: `status is one of ${STUDY_STATUSES.join(', ')}.` }).optional(),
   mine: z.enum(['1', 'true']).optional(),
+  /** The owner's user id. */
+  owner: z.coerce.number({ message: 'owner is a user id (a positive whole number).' }).int('owner is a user id (a positive whole number).').positive('owner is a user id (a positive whole number).').optional(),
+  /** The outcome measure's key. */
+  outcome: measureKeySchema.optional(),
 })
 
 export const studyIdParamSchema = idParams('study id')
@@ -131,7 +135,10 @@ export const poolPutSchema = z.strictObject({
     jurisdiction: jurisdictionCodeSchema,
     included: z.boolean({ message: 'included is true or false.' }),
     reason: z.string().trim().max(1000).optional().nullable().transform(v => (v ? v : null)),
-  })).min(1, 'Send at least one decision.').max(5000),
+  }).superRefine((d, ctx) => {
+    if (!d.included && d.reason === null) ctx.addIssue({ code: 'custom', path: ['reason'], message: `Excluding a jurisdiction needs a reason: say why ${d.jurisdiction} is left out of the pool.` })
+  }))
+    .min(1, 'Send at least one decision.').max(5000),
 })
 export type PoolPut = z.input<typeof poolPutSchema>
 

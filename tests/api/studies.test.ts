@@ -186,7 +186,7 @@ describe('the demo study', () => {
     // of the treated unit's own region (every other candidate out, with the reason).
     const table = (await analyst.get(`/api/studies/${id}/candidates`)).body.rows as { jurisdiction: string, region: string, flagged: boolean }[]
     const region = (await sql('SELECT region FROM jurisdictions WHERE code = $1', [FIRST_ADOPTER]))[0].region
-    const decisions = table.map(r => ({ jurisdiction: r.jurisdiction, included: !r.flagged && r.region === region, reason: r.region === region ? null : 'another region, on another trend' }))
+    const decisions = table.map(r => ({ jurisdiction: r.jurisdiction, included: !r.flagged && r.region === region, reason: r.region !== region ? 'another region, on another trend' : r.flagged ? 'flagged: a related policy, a shared border or missing data' : null }))
     expect(decisions.filter(d => d.included).length).toBeGreaterThanOrEqual(4)
     expect((await analyst.put(`/api/studies/${id}/pool`, { decisions })).status).toBe(200)
     const started = Date.now()

@@ -1,7 +1,9 @@
-/** GET /api/jurisdictions — any signed-in user: every jurisdiction with attributes and neighbour codes. */
+/** GET /api/jurisdictions?archived=include|only — any signed-in user: (archived ones hidden unless asked for) every jurisdiction with attributes and neighbour codes. */
+import { registryListQuerySchema } from '#shared/schemas/archive'
 import { listJurisdictions } from '../../services/registry/jurisdictions'
 
 export default defineEventHandler(async (event) => {
   await requireUser(event)
-  return listJurisdictions(useDb())
+  const query = await getValidatedQuery(event, check(registryListQuerySchema, 'query'))
+  return listJurisdictions(useDb(), query)
 })

@@ -1,7 +1,9 @@
-/** GET /api/measures — any signed-in user: every measure (key, label, unit, kind, frequency). */
+/** GET /api/measures?archived=include|only — any signed-in user: (archived ones hidden unless asked for) every measure (key, label, unit, kind, frequency). */
+import { registryListQuerySchema } from '#shared/schemas/archive'
 import { listMeasures } from '../../services/registry/measures'
 
 export default defineEventHandler(async (event) => {
   await requireUser(event)
-  return listMeasures(useDb())
+  const query = await getValidatedQuery(event, check(registryListQuerySchema, 'query'))
+  return listMeasures(useDb(), query)
 })

@@ -1,4 +1,4 @@
-/** GET /api/studies?status=&mine=1 — any signed-in user: every study with status, owner, outcome and last run. */
+/** GET /api/studies?status=&mine=1&owner=&outcome= — any signed-in user: the studies matching every filter given (status, own, owner id, outcome key), with status, owner, outcome and last run. */
 import { studyListQuerySchema } from '#shared/schemas/studies'
 import { listStudies } from '../../services/studies/studies'
 

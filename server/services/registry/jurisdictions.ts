@@ -4,6 +4,8 @@ import { jurisdictionNeighbours, jurisdictions, observations, policyEvents } fro
 import type { z } from 'zod'
 import type { jurisdictionCreateSchema, jurisdictionPatchSchema } from '#shared/schemas/registry'
 import type { Db } from '../../utils/db'
+import type { RegistryListQuery } from '#shared/schemas/archive'
+import { archivedFilter } from './archive'
 
 type Tx = Parameters<Parameters<Db['transaction']>[0]>[0]
 type Create = z.output<typeof jurisdictionCreateSchema>
@@ -21,11 +23,13 @@ const publicColumns = {
   region: jurisdictions.region,
   attributes: jurisdictions.attributes,
   neighbours: neighbourCodes,
+  archivedAt: jurisdictions.archivedAt,
   createdAt: jurisdictions.createdAt,
 }
 
-export async function listJurisdictions(db: Db | Tx) {
-  return db.select(publicColumns).from(jurisdictions).orderBy(asc(jurisdictions.code))
+/** Current jurisdictions; `archived: 'include'` adds the archived ones, `'only'` lists just those. */
+export async function listJurisdictions(db: Db | Tx, query: RegistryListQuery = {}) {
+  return db.select(publicColumns).from(jurisdictions).where(archivedFilter(jurisdictions.archivedAt, query)).orderBy(asc(jurisdictions.code))
 }
 
 export async function findJurisdiction(db: Db | Tx, code: string) {

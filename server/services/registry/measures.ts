@@ -1,14 +1,17 @@
 /** Measures: what is recorded (key, label, unit), its role in a study (kind) and its frequency. */
 import { asc, eq } from 'drizzle-orm'
+import type { RegistryListQuery } from '#shared/schemas/archive'
+import { archivedFilter } from './archive'
 import type { z } from 'zod'
 import { measures } from '~~/db/schema'
 import type { measureCreateSchema } from '#shared/schemas/registry'
 import type { Db } from '../../utils/db'
 
-const publicColumns = { key: measures.key, label: measures.label, unit: measures.unit, kind: measures.kind, frequency: measures.frequency, createdAt: measures.createdAt }
+const publicColumns = { key: measures.key, label: measures.label, unit: measures.unit, kind: measures.kind, frequency: measures.frequency, archivedAt: measures.archivedAt, createdAt: measures.createdAt }
 
-export async function listMeasures(db: Db) {
-  return db.select(publicColumns).from(measures).orderBy(asc(measures.key))
+/** Current measures; `archived: 'include'` adds the archived ones (the registry page), `'only'` lists just those. */
+export async function listMeasures(db: Db, query: RegistryListQuery = {}) {
+  return db.select(publicColumns).from(measures).where(archivedFilter(measures.archivedAt, query)).orderBy(asc(measures.key))
 }
 
 export async function findMeasure(db: Db, key: string) {

@@ -7,6 +7,8 @@ import type { z } from 'zod'
 import { sourceReleases, sources, users } from '~~/db/schema'
 import type { sourceCreateSchema } from '#shared/schemas/registry'
 import type { Db } from '../../utils/db'
+import type { RegistryListQuery } from '#shared/schemas/archive'
+import { archivedFilter } from './archive'
 
 const sourceColumns = {
   id: sources.id,
@@ -15,15 +17,17 @@ const sourceColumns = {
   url: sources.url,
   licence: sources.licence,
   notes: sources.notes,
+  archivedAt: sources.archivedAt,
   createdAt: sources.createdAt,
 }
 
-export async function listSources(db: Db) {
+/** Current sources; `archived: 'include'` adds the archived ones, `'only'` lists just those. */
+export async function listSources(db: Db, query: RegistryListQuery = {}) {
   return db.select({
     ...sourceColumns,
     releases: sql<number>`(select count(*)::int from source_releases r where r.source_id = "sources"."id" and r.status = 'done')`,
     lastImportedAt: sql<string | null>`(select max(r.imported_at) from source_releases r where r.source_id = "sources"."id" and r.status = 'done')`,
-  }).from(sources).orderBy(asc(sources.name))
+  }).from(sources).where(archivedFilter(sources.archivedAt, query)).orderBy(asc(sources.name))
 }
 
 export async function findSource(db: Db, id: number) {

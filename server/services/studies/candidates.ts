@@ -13,7 +13,7 @@
  * unflagged candidate (poolWeights.ts). Balance: pre-period means, treated against pool.
  */
 import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
-import { eq, inArray, or } from 'drizzle-orm'
+import { and, eq, inArray, lt, or } from 'drizzle-orm'
 import { jurisdictionNeighbours, jurisdictions, policyEvents, studyPoolDecisions } from '~~/db/schema'
 import { scoreDonors, isEngineError, type DonorScores } from '~~/server/engine'
 import { comparePeriods, parsePeriod } from '#shared/utils/periods'
@@ -80,7 +80,7 @@ async function contextKey(study: StudyRecord, maxMissing: number): Promise<strin
     (SELECT count(*) || '-' || coalesce(sum(id), 0) FROM source_releases WHERE status = 'done'),
     (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || period || kind || policy)), 0) FROM policy_events),
     (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || '-' || neighbour_id)), 0) FROM jurisdiction_neighbours),
-    (SELECT count(*) || '-' || coalesce(sum(hashtext(code || name || kind || coalesce(region, ''))), 0) FROM jurisdictions)) AS d`)
+    (SELECT count(*) || '-' || coalesce(sum(hashtext(code || name || kind || coalesce(region, '') || coalesce(archived_at::text, ''))), 0) FROM jurisdictions)) AS d`)
   const { outcome, covariates, denominator, transform, treated, start, window, interventions } = study
   return JSON.stringify([study.id, outcome, covariates, denominator, transform, treated, start, window, interventions, maxMissing, digest!.d])
 }
@@ -102,7 +102,10 @@ async function buildCandidateContext(study: StudyRecord, maxMissing: number): Pr
   const units = [...new Set(data.rows.map(r => r.jurisdiction))]
   const missingTreated = study.treated.filter(c => !units.includes(c))
   if (missingTreated.length) badRequest(`No ${study.outcome} data for the treated jurisdiction${missingTreated.length > 1 ? 's' : ''} ${missingTreated.join(', ')}${source.from ? ` between ${source.from} and ${source.to}` : ''}.`, [{ path: 'treated', message: 'No outcome data.' }])
-  const candidates = units.filter(u => !study.treated.includes(u))
+  // a jurisdiction archived before the study was created is not offered to it; older studies keep theirs
+  const archived = new Set((await useDb().select({ code: jurisdictions.code }).from(jurisdictions)
+    .where(and(inArray(jurisdictions.code, units.length ? units : ['']), lt(jurisdictions.archivedAt, study.createdAt)))).map(r => r.code))
+  const candidates = units.filter(u => !study.treated.includes(u) && !archived.has(u))
   if (!candidates.length) badRequest(`No other jurisdiction has ${study.outcome} data to compare with.`)
   let scores: DonorScores
   try {

@@ -27,8 +27,9 @@ export type RunOptions = z.output<typeof runOptionsSchema>
 /** Each treated unit's first treated period (a year stored as "2007" may come back from jsonb as the number 2007). */
 export function startsOf(study: Pick<StudyForSpec, 'treated' | 'start'>): Record<string, string> {
   const out: Record<string, string> = {}
-  const start = study.start as StudyForSpec['start'] | number
-  for (const code of study.treated) out[code] = typeof start === 'object' ? String(start[code]!) : String(start)
+  // a stored "2007" can come back from jsonb as the number 2007
+  const start = study.start as unknown
+  for (const code of study.treated) out[code] = typeof start === 'string' || typeof start === 'number' ? String(start) : String((start as Record<string, string | number>)[code])
   return out
 }
 

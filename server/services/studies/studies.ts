@@ -12,17 +12,33 @@ import { z } from 'zod'
 import type { SessionUser } from '../../utils/auth'
 import type { StudyRecord } from './runData'
 import { editState } from './access'
+import { refuseArchived } from './archivedRefs'
 
 type Create = z.output<typeof studyCreateSchema>
 type Patch = z.output<typeof studyPatchSchema>
 type Fields = Omit<Create, never>
 
-export async function listStudies(query: { status?: string, mine?: string }, user: SessionUser) {
+/** The owners and outcomes that occur among the studies, for the list's filters. */
+export async function studyFilterOptions() {
+  const db = useDb()
+  const [owners, outcomes] = await Promise.all([
+    db.selectDistinct({ id: users.id, name: users.name }).from(studies).innerJoin(users, eq(users.id, studies.ownerId)).orderBy(users.name),
+    db.selectDistinct({ key: studies.outcome, label: measures.label }).from(studies).leftJoin(measures, eq(measures.key, studies.outcome)).orderBy(studies.outcome),
+  ])
+  return { owners, outcomes: outcomes.map(o => ({ key: o.key, label: o.label ?? o.key })) }
+}
+
+export async function listStudies(query: { status?: string, mine?: string, owner?: number, outcome?: string }, user: SessionUser) {
   const db = useDb()
   const lastRun = sql<{ id: number, design: string, createdAt: string, estimate: number | null } | null>`(
     select json_build_object('id', r.id, 'design', r.design, 'createdAt', r.created_at, 'estimate', (r.result->'effect'->>'estimate')::float8)
     from study_runs r where r.study_id = "studies"."id" order by r.id desc limit 1)`
-  const where = and2(query.status ? eq(studies.status, query.status as StudyRecord['status']) : undefined, query.mine ? eq(studies.ownerId, user.id) : undefined)
+  const where = and2(
+    query.status ? eq(studies.status, query.status as StudyRecord['status']) : undefined,
+    query.mine ? eq(studies.ownerId, user.id) : undefined,
+    query.owner ? eq(studies.ownerId, query.owner) : undefined,
+    query.outcome ? eq(studies.outcome, query.outcome) : undefined,
+  )
   return db.select({
     id: studies.id, title: studies.title, status: studies.status, outcome: studies.outcome, transform: studies.transform,
     treated: studies.treated, ownerId: studies.ownerId, owner: users.name, version: studies.version,
@@ -89,6 +105,7 @@ async function checkReferences(s: Fields) {
 
 export async function createStudy(user: SessionUser, body: Create) {
   await checkReferences(body)
+  await refuseArchived(body)
   return useDb().transaction(async (tx) => {
     const [row] = await tx.insert(studies).values({ ...body, ownerId: user.id }).returning()
     await audit(tx, { userId: user.id, action: 'create', entity: 'study', entityId: row!.id, after: row })

@@ -67,7 +67,8 @@ export function readLeadTest(result: EstimateResult | null) {
   return { wald, slopeDiff: slope, placebo, fReliable, reading: lines }
 }
 
-export async function studyTrends(study: StudyRecord) {
+/** `window`: the event study's window in periods from the start (ends binned); by default it follows the data. */
+export async function studyTrends(study: StudyRecord, window?: { from: number, to: number }) {
   const ctx = await candidateContext(study)
   const pool = includedPool(ctx, await poolDecisions(study.id))
   const treated = new Set(study.treated)
@@ -100,8 +101,11 @@ export async function studyTrends(study: StudyRecord) {
   let eventStudy: EstimateResult | null = null
   let eventError: string | null = null
   const warnings: string[] = [...ctx.scores.warnings]
+  let usedWindow: { from: number, to: number } | null = null
   try {
-    const spec = buildRunSpec(study, 'event_study', {}, pool, periods)
+    const spec = buildRunSpec(study, 'event_study', window ? { eventWindow: { ...window, reference: -1, bin: true } } : {}, pool, periods)
+    const ew = (spec as { eventWindow?: { from: number, to: number } }).eventWindow
+    usedWindow = ew ? { from: ew.from, to: ew.to } : null
     eventStudy = estimate({ rows: engineRows(rows) }, spec)
     warnings.push(...eventStudy.warnings)
   }
@@ -133,6 +137,8 @@ export async function studyTrends(study: StudyRecord) {
     nClusters: eventStudy?.nClusters ?? null,
     eventError,
     leadTest: readLeadTest(eventStudy),
+    /** The event window used (periods from the start), so the page can show and change it. */
+    eventWindow: usedWindow,
     warnings: [...new Set(warnings)],
   }
 }

@@ -122,23 +122,23 @@ export const FORMATS = {
 /** Text for a cell: never read as a formula (see the file comment). */
 export const safeText = guardFormula
 
-type CellValue = string | number | boolean | Date | null | undefined
+export type CellValue = string | number | boolean | Date | null | undefined
 
 /** A cell value: finite numbers stay numbers, non-finite ones become empty, text is guarded. */
-function cellValue(v: CellValue): ExcelJS.CellValue {
+export function cellValue(v: CellValue): ExcelJS.CellValue {
   if (v === null || v === undefined) return null
   if (typeof v === 'number') return Number.isFinite(v) ? v : null
   if (typeof v === 'boolean' || v instanceof Date) return v
   return safeText(v)
 }
 
-interface Column { header: string, width: number, format?: string }
+export interface Column { header: string, width: number, format?: string }
 
-type Book = ExcelJS.stream.xlsx.WorkbookWriter
+export type Book = ExcelJS.stream.xlsx.WorkbookWriter
 type Sheet = ExcelJS.Worksheet
 
 /** Adds one row, lets the caller style it, and writes it out (a written row cannot change). */
-function line(ws: Sheet, values: ExcelJS.CellValue[], style?: (row: ExcelJS.Row) => void): void {
+export function line(ws: Sheet, values: ExcelJS.CellValue[], style?: (row: ExcelJS.Row) => void): void {
   const row = ws.addRow(values)
   style?.(row)
   row.commit()
@@ -147,7 +147,7 @@ function line(ws: Sheet, values: ExcelJS.CellValue[], style?: (row: ExcelJS.Row)
 const wrapTop: Partial<ExcelJS.Alignment> = { wrapText: true, vertical: 'top' }
 
 /** A sheet with a frozen header row, column widths and number formats; the caller commits it. */
-function table(wb: Book, name: string, columns: Column[], rows: Iterable<CellValue[]>, options: { wrap?: boolean } = {}): Sheet {
+export function table(wb: Book, name: string, columns: Column[], rows: Iterable<CellValue[]>, options: { wrap?: boolean } = {}): Sheet {
   const ws = wb.addWorksheet(name, { views: [{ state: 'frozen', ySplit: 1 }] })
   ws.columns = columns.map(c => ({ width: c.width, style: c.format ? { numFmt: c.format } : {} }))
   line(ws, columns.map(c => c.header), (head) => {
@@ -168,7 +168,7 @@ export const formatStart = (start: string | number | Record<string, string | num
 const iso = (d: Date | string | null) => (d == null ? null : new Date(d).toISOString())
 
 
-const VCOV_LABELS: Record<string, string> = {
+export const VCOV_LABELS: Record<string, string> = {
   cluster: 'Cluster-robust by unit',
   hac: 'Newey-West (autocorrelation-robust)',
   hc1: 'Heteroskedasticity-robust (HC1)',
@@ -433,7 +433,7 @@ function preTrend(wb: Book, r: EstimateResult) {
   return ws
 }
 
-function donorPool(wb: Book, pool: WorkbookPoolRow[]) {
+export function donorPool(wb: Book, pool: WorkbookPoolRow[]) {
   return table(wb, 'Donor pool', [
     { header: 'Jurisdiction', width: 14 },
     { header: 'Decision', width: 12 },
@@ -469,7 +469,7 @@ function panelRows(wb: Book, input: WorkbookInput) {
   ], cells())
 }
 
-function validity(wb: Book, notes: WorkbookValidityNote[]) {
+export function validity(wb: Book, notes: WorkbookValidityNote[]) {
   const byThreat = new Map(notes.map(n => [n.threat, n]))
   return table(wb, 'Validity', [
     { header: 'Threat', width: 24 },
@@ -508,7 +508,8 @@ function provenance(wb: Book, input: WorkbookInput) {
   return ws
 }
 
-export async function buildWorkbook(input: WorkbookInput): Promise<Buffer> {
+/** Streams a workbook that `fill` writes sheet by sheet, and returns the finished file. */
+export async function writeBook(meta: { creator: string, created: Date }, fill: (wb: Book) => void): Promise<Buffer> {
   const stream = new PassThrough()
   const chunks: Buffer[] = []
   stream.on('data', (chunk: Buffer) => chunks.push(chunk))
@@ -517,25 +518,31 @@ export async function buildWorkbook(input: WorkbookInput): Promise<Buffer> {
     stream.on('error', reject)
   })
   const wb = new ExcelJS.stream.xlsx.WorkbookWriter({ stream, useStyles: true, useSharedStrings: false })
-  wb.creator = `${input.software.name} ${input.software.version}`
-  wb.created = input.generated.at
-  summary(wb, input)
-  coefficients(wb, input.run.result, labelsOf(input)).commit()
-  inferenceSheet(wb, input.run.result, labelsOf(input)).commit()
-  weightedComparison(wb, input.run.result).commit()
-  groupTime(wb, input.run.result).commit()
-  decomposition(wb, input.run.result).commit()
-  eventStudy(wb, input.run.result).commit()
-  preTrend(wb, input.run.result).commit()
-  donorPool(wb, input.pool).commit()
-  panelRows(wb, input).commit()
-  robustnessSheet(wb, input.robustness ?? []).commit()
-  validity(wb, input.validity).commit()
-  threatEvidenceSheet(wb, input.threatEvidence).commit()
-  provenance(wb, input).commit()
+  wb.creator = meta.creator
+  wb.created = meta.created
+  fill(wb)
   await wb.commit()
   await ended
   return Buffer.concat(chunks)
+}
+
+export async function buildWorkbook(input: WorkbookInput): Promise<Buffer> {
+  return writeBook({ creator: `${input.software.name} ${input.software.version}`, created: input.generated.at }, (wb) => {
+    summary(wb, input)
+    coefficients(wb, input.run.result, labelsOf(input)).commit()
+    inferenceSheet(wb, input.run.result, labelsOf(input)).commit()
+    weightedComparison(wb, input.run.result).commit()
+    groupTime(wb, input.run.result).commit()
+    decomposition(wb, input.run.result).commit()
+    eventStudy(wb, input.run.result).commit()
+    preTrend(wb, input.run.result).commit()
+    donorPool(wb, input.pool).commit()
+    panelRows(wb, input).commit()
+    robustnessSheet(wb, input.robustness ?? []).commit()
+    validity(wb, input.validity).commit()
+    threatEvidenceSheet(wb, input.threatEvidence).commit()
+    provenance(wb, input).commit()
+  })
 }
 
 /** A file name for the download: study title, version and run, in safe characters. */

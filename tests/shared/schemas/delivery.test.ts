@@ -48,6 +48,13 @@ describe('result cautions', () => {
     expect(resultCautions({ ...base, nClusters: 12 }, 5)[0]).toContain('12 clusters')
     const leads = { wald: { terms: [], chi2: 9, pChi2: 0.01, F: 4.5, df1: 2, df2: 30, p: 0.02 }, slopeDiff: null }
     expect(resultCautions({ ...base, preTrend: leads }, 5)[0]).toContain('p = 0.020')
-    expect(resultCautions({ ...base, warnings: ['few periods'] }, 5)).toEqual(['Engine warning: few periods'])
+    expect(resultCautions({ ...base, warnings: ['few periods'] }, 5)).toEqual(['Few periods.'])
+  })
+  it('gives a single-series interrupted time series its own caution, without the clustered-error one', () => {
+    const its = { design: 'its' as const, nClusters: null, preTrend: null, warnings: [], comparison: null }
+    const out = resultCautions(its, 1)
+    expect(out).toHaveLength(1)
+    expect(out[0]).toContain('One jurisdiction\'s series alone')
+    expect(out.join(' ')).not.toMatch(/cluster/i)
   })
 })
