@@ -1,4 +1,6 @@
 // Counterpart: Nuxt configuration. Versions and the reasons for each setting are in DEVELOPERS.md.
+import { uploadThreadPlugin } from './server/build/uploadThread'
+
 export default defineNuxtConfig({
   compatibilityDate: '2026-01-01',
   devtools: { enabled: false },
@@ -40,6 +42,8 @@ export default defineNuxtConfig({
   nitro: {
     exportConditions: ['module-sync'],
     experimental: { asyncContext: true },
+    // Uploaded files are read in a worker thread bundled on its own (server/build/uploadThread.ts).
+    rollupConfig: { plugins: [uploadThreadPlugin()] },
     // The engine's numeric loops index typed arrays within bounds they establish themselves;
     // unchecked-index errors there would only add noise.
     typescript: { tsConfig: { compilerOptions: { noUncheckedIndexedAccess: false } } },

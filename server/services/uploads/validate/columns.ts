@@ -17,6 +17,10 @@ export function checkColumns(table: Table, mapping: Mapping, report: Report): Ma
   const needed = mapping.layout === 'wide'
     ? [mapping.jurisdiction]
     : [mapping.jurisdiction, mapping.period, ...('values' in mapping ? Object.keys(mapping.values) : [mapping.measure, mapping.value])]
+  if (columns.length === 1 && (needed.length > 1 || mapping.layout === 'wide') && table.format === 'xlsx') {
+    report(1, columns[0]!, `The sheet "${clip(table.sheet)}" has a single column, but the mapping needs ${Math.max(needed.length, 2)} or more: is the data on another sheet? Name that sheet in the mapping.`)
+    return null
+  }
   if (columns.length === 1 && (needed.length > 1 || mapping.layout === 'wide')) {
     const d = likelyDelimiter(columns[0]!)
     const hint = d ? ` It looks separated by ${delimiterName(d)}; choose that delimiter${table.delimiter ? ` instead of ${delimiterName(table.delimiter)}` : ''}.` : ''
