@@ -5,9 +5,9 @@
  */
 
 /** Unpacked size of all parts of an XLSX workbook together. */
-export const MAX_XLSX_UNPACKED_BYTES = 200 * 1024 * 1024
+export const MAX_XLSX_UNPACKED_BYTES = 100 * 1024 * 1024
 /** Unpacked size of any one part (a sheet's XML, the shared strings). */
-export const MAX_XLSX_PART_BYTES = 120 * 1024 * 1024
+export const MAX_XLSX_PART_BYTES = 64 * 1024 * 1024
 /**
  * Unpacked / packed size of one part. Real sheet XML packs about 5 to 20 times; a ratio in
  * the hundreds is a file built to unpack into far more than it looks (a "zip bomb").
