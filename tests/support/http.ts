@@ -16,7 +16,7 @@ export interface Reply<T = any> { status: number, body: T, headers: Headers }
 export class Client {
   private cookies = new Map<string, string>()
 
-  constructor(private readonly headers: Record<string, string> = {}) {}
+  constructor(private readonly headers: Record<string, string> = {}, private readonly baseUrl = BASE_URL) {}
 
   private cookieHeader(): string {
     return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ')
@@ -31,7 +31,7 @@ export class Client {
   }
 
   async raw(path: string, init: RequestInit = {}): Promise<Response> {
-    const res = await fetch(BASE_URL + path, {
+    const res = await fetch(this.baseUrl + path, {
       redirect: 'manual',
       ...init,
       headers: { ...this.headers, cookie: this.cookieHeader(), ...(init.headers as Record<string, string> | undefined) },
@@ -66,7 +66,7 @@ export class Client {
   /** Signs in; returns the error text next-auth reports, or null on success. */
   async signIn(email: string, password = DEMO_PASSWORD): Promise<string | null> {
     const { body } = await this.get<{ csrfToken: string }>('/api/auth/csrf')
-    const form = new URLSearchParams({ csrfToken: body.csrfToken, email, password, callbackUrl: `${BASE_URL}/`, json: 'true' })
+    const form = new URLSearchParams({ csrfToken: body.csrfToken, email, password, callbackUrl: `${this.baseUrl}/`, json: 'true' })
     const res = await this.raw('/api/auth/callback/credentials', {
       method: 'POST',
       body: form,
@@ -79,8 +79,8 @@ export class Client {
 }
 
 /** A client signed in as one of the demo roles (each call gets its own address for throttling). */
-export async function as(role: keyof typeof DEMO): Promise<Client> {
-  const client = new Client({ 'x-forwarded-for': `test-client-${Math.random().toString(36).slice(2, 10)}` })
+export async function as(role: keyof typeof DEMO, baseUrl = BASE_URL): Promise<Client> {
+  const client = new Client({ 'x-forwarded-for': `test-client-${Math.random().toString(36).slice(2, 10)}` }, baseUrl)
   const error = await client.signIn(DEMO[role])
   if (error) throw new Error(`could not sign in as ${role}: ${error}`)
   return client
