@@ -19,6 +19,8 @@ export interface CheckRequest {
   registry: Registry | null
   /** Rows of the table to send back (the preview shows 20). */
   sampleRows: number
+  /** Send the observations back too (the import job inserts them); the routes need only the verdict. */
+  keepObservations?: boolean
 }
 
 export interface TableSummary {
@@ -53,8 +55,7 @@ export async function checkUpload(req: CheckRequest): Promise<CheckResult> {
         rowCount: table.rows.length,
         notes: table.notes,
       },
-      // The observations stay behind: the import job reads the stored file again.
-      validation: validation && { ...validation, observations: emptyObservations() },
+      validation: validation && (req.keepObservations ? validation : { ...validation, observations: emptyObservations() }),
     }
   }
   catch (e) {
