@@ -5,10 +5,13 @@
  * same in the upload thread (uploadThread.ts) and in-process (tests, the CLI).
  */
 import type { Mapping, UploadProblem } from '../../../shared/schemas/uploads'
+import { clip } from './limits'
 import { readTable, type Cell } from './readTable'
 import { UploadError } from './uploadError'
 import { validateTable, type Registry, type Validation } from './validate'
 import { emptyObservations } from './validate/types'
+
+const SAMPLE_CHARS = 200
 
 export interface CheckRequest {
   file: Uint8Array
@@ -51,7 +54,8 @@ export async function checkUpload(req: CheckRequest): Promise<CheckResult> {
         sheet: table.sheet,
         columns: table.columns,
         headerCells: table.headerCells,
-        sample: table.rows.slice(0, req.sampleRows),
+        // A preview shows cells, not whole files: long texts are cut (limits.ts allows 1,000 characters a cell).
+        sample: table.rows.slice(0, req.sampleRows).map(r => r.map(c => (typeof c === 'string' && c.length > SAMPLE_CHARS ? clip(c, SAMPLE_CHARS) : c))),
         rowCount: table.rows.length,
         notes: table.notes,
       },
