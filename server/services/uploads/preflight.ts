@@ -199,6 +199,7 @@ export function scanCsv(text: string, delimiter?: string): void {
   const sep = delimiter && delimiter !== 'auto' ? delimiter : headerDelimiter(text)
   const anySep = new Set([...CANDIDATES, sep])
   let quoted = false
+  let fieldStart = true
   let cell = 0
   let columns = 1
   let line = 1
@@ -206,12 +207,23 @@ export function scanCsv(text: string, delimiter?: string): void {
   let lineHasData = false
   for (let i = 0; i < text.length; i++) {
     const ch = text.charCodeAt(i)
-    if (ch === 34) { // "
-      quoted = !quoted
+    if (quoted) {
+      // Inside quotes: "" is a quote, a lone " closes the field's quoted part; all else is text.
+      if (ch === 34) {
+        if (text.charCodeAt(i + 1) === 34) i++
+        else {
+          quoted = false
+          continue
+        }
+      }
+    }
+    else if (ch === 34 && fieldStart) { // a quote opens a field only at its start, as CSV readers take it
+      quoted = true
+      fieldStart = false
       lineHasData = true
       continue
     }
-    if (!quoted && (ch === 10 || ch === 13)) {
+    else if (ch === 10 || ch === 13) {
       if (ch === 13 && text.charCodeAt(i + 1) === 10) i++
       if (lineHasData) records++
       if (records > MAX_ROWS + 1) {
@@ -220,20 +232,23 @@ export function scanCsv(text: string, delimiter?: string): void {
       line++
       cell = 0
       columns = 1
+      fieldStart = true
       lineHasData = false
       continue
     }
-    if (!quoted && anySep.has(text[i]!)) {
+    else if (anySep.has(text[i]!)) {
       if (text[i] === sep && ++columns > MAX_COLUMNS) {
         refuse(`Row ${countText(line)} has more than ${countText(MAX_COLUMNS)} columns; at most ${countText(MAX_COLUMNS)} are read. Is it a table, and is the delimiter right?`, `Row ${countText(line)}: over ${countText(MAX_COLUMNS)} columns.`, 413)
       }
       cell = 0
+      fieldStart = true
       lineHasData = true
       continue
     }
+    fieldStart = false
     lineHasData = true
     if (++cell > MAX_CELL_CHARS) {
-      refuse(`A cell in row ${countText(line)} is longer than ${countText(MAX_CELL_CHARS)} characters (it starts "${clip(cellStart(text, i))}"); a cell holds a code, a period or a number. Is a quote left open?`, `Row ${countText(line)}: a cell over ${countText(MAX_CELL_CHARS)} characters.`)
+      refuse(`A cell in row ${countText(line)} is longer than ${countText(MAX_CELL_CHARS)} characters (it starts "${clip(cellStart(text, i))}"); a cell holds a code, a period or a number.${quoted ? ' Is a quote left open?' : ''}`, `Row ${countText(line)}: a cell over ${countText(MAX_CELL_CHARS)} characters.`)
     }
   }
 }

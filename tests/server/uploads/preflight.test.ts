@@ -90,6 +90,13 @@ describe('one pass over CSV text', () => {
     expect(refusal(() => scanCsv(`a,b\n1,"${'y\n'.repeat(MAX_CELL_CHARS)}"\n`)).message).toMatch(/row 2 is longer/)
   })
 
+  it('takes a quote inside a field as text, as CSV readers do, so a stray inch mark opens nothing', () => {
+    const rows = Array.from({ length: 400 }, (_, i) => `Town ${i},2020-01,${i}`).join('\n')
+    expect(() => scanCsv(`name,month,v\nPipe 5" wide,2020-01,1\n${rows}\n`)).not.toThrow()
+    expect(() => scanCsv(`a,b\n"x ""quoted"" word",1\n${rows}\n`)).not.toThrow()
+    expect(refusal(() => scanCsv(`a,b\n"open,1\n${rows}\n`)).message).toMatch(/Is a quote left open\?/)
+  })
+
   it('lets a long line of ordinary cells and quoted line breaks through', () => {
     expect(() => scanCsv(`${Array.from({ length: 500 }, (_, i) => `col${i}`).join(';')}\n"a\nb";2\n`)).not.toThrow()
   })
