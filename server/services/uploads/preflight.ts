@@ -197,7 +197,10 @@ function headerDelimiter(text: string): string {
  */
 export function scanCsv(text: string, delimiter?: string): void {
   const sep = delimiter && delimiter !== 'auto' ? delimiter : headerDelimiter(text)
-  const anySep = new Set([...CANDIDATES, sep])
+  const sepCode = sep.charCodeAt(0)
+  // Candidate delimiters by character code (all below 128): a table lookup per character.
+  const isSep = new Uint8Array(128)
+  for (const d of [...CANDIDATES, sep]) isSep[d.charCodeAt(0)] = 1
   let quoted = false
   let fieldStart = true
   let cell = 0
@@ -236,8 +239,8 @@ export function scanCsv(text: string, delimiter?: string): void {
       lineHasData = false
       continue
     }
-    else if (anySep.has(text[i]!)) {
-      if (text[i] === sep && ++columns > MAX_COLUMNS) {
+    else if (ch < 128 && isSep[ch] === 1) {
+      if (ch === sepCode && ++columns > MAX_COLUMNS) {
         refuse(`Row ${countText(line)} has more than ${countText(MAX_COLUMNS)} columns; at most ${countText(MAX_COLUMNS)} are read. Is it a table, and is the delimiter right?`, `Row ${countText(line)}: over ${countText(MAX_COLUMNS)} columns.`, 413)
       }
       cell = 0
