@@ -1,5 +1,6 @@
 // Counterpart: Nuxt configuration. Versions and the reasons for each setting are in DEVELOPERS.md.
 import { securityOptions } from './config/security'
+import { uploadThreadPlugin } from './server/build/uploadThread'
 
 const UPLOAD_LIMIT_BYTES = 100 * 1024 * 1024
 
@@ -45,6 +46,8 @@ export default defineNuxtConfig({
   nitro: {
     exportConditions: ['module-sync'],
     experimental: { asyncContext: true },
+    // Uploaded files are read in a worker thread bundled on its own (server/build/uploadThread.ts).
+    rollupConfig: { plugins: [uploadThreadPlugin()] },
     // The engine's numeric loops index typed arrays within bounds they establish themselves;
     // unchecked-index errors there would only add noise.
     typescript: { tsConfig: { compilerOptions: { noUncheckedIndexedAccess: false } } },

@@ -16,7 +16,7 @@ export interface Reply<T = any> { status: number, body: T, headers: Headers }
 export class Client {
   private cookies = new Map<string, string>()
 
-  constructor(private readonly headers: Record<string, string> = {}) {}
+  constructor(private readonly headers: Record<string, string> = {}, private readonly baseUrl = BASE_URL) {}
 
   private cookieHeader(): string {
     return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ')
@@ -31,7 +31,7 @@ export class Client {
   }
 
   async raw(path: string, init: RequestInit = {}): Promise<Response> {
-    const res = await fetch(BASE_URL + path, {
+    const res = await fetch(this.baseUrl + path, {
       redirect: 'manual',
       ...init,
       headers: { ...this.headers, cookie: this.cookieHeader(), ...(init.headers as Record<string, string> | undefined) },
@@ -74,7 +74,7 @@ export class Client {
    */
   async signInReply(email: string, password = DEMO_PASSWORD, headers: Record<string, string> = {}): Promise<{ status: number, error: string | null, retryAfter: number | null }> {
     const { body } = await this.get<{ csrfToken: string }>('/api/auth/csrf')
-    const form = new URLSearchParams({ csrfToken: body.csrfToken, email, password, callbackUrl: `${BASE_URL}/`, json: 'true' })
+    const form = new URLSearchParams({ csrfToken: body.csrfToken, email, password, callbackUrl: `${this.baseUrl}/`, json: 'true' })
     const res = await this.raw('/api/auth/callback/credentials', {
       method: 'POST',
       body: form,
@@ -97,8 +97,8 @@ export class Client {
  * (the server ignores X-Forwarded-For): a test that makes failed sign-ins clears them afterwards
  * (clearFailedSignIns in tests/support/db.ts) so the address throttle does not slow the rest.
  */
-export async function as(role: keyof typeof DEMO): Promise<Client> {
-  const client = new Client()
+export async function as(role: keyof typeof DEMO, baseUrl = BASE_URL): Promise<Client> {
+  const client = new Client({}, baseUrl)
   const error = await client.signIn(DEMO[role])
   if (error) throw new Error(`could not sign in as ${role}: ${error}`)
   return client

@@ -10,8 +10,10 @@
  */
 import type pg from 'pg'
 import { mappingSchema, type UploadProblem } from '../../../shared/schemas/uploads'
-import { readTable, UploadError } from './readTable'
-import { problemMessage, validateTable, type MeasureInfo, type Observations, type Registry } from './validate'
+import { MAX_PROBLEMS } from './limits'
+import { runUploadCheck } from './runUploadCheck'
+import { UploadError } from './uploadError'
+import { problemMessage, type MeasureInfo, type Observations, type Registry } from './validate'
 
 export type Queryable = Pick<pg.PoolClient, 'query'>
 export type Progress = (fraction: number, message: string) => Promise<void> | void
@@ -135,16 +137,19 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
   const client = await pool.connect()
   let began = false
   try {
-    await onProgress(0.02, 'Reading the file')
+    await onProgress(0.02, 'Reading and checking the file')
     const mapping = mappingSchema.parse(release.mapping)
-    const table = await readTable(release.file, release.file_name, mapping)
-    await onProgress(0.1, `Checking ${table.rows.length.toLocaleString('en')} rows`)
+    // Read and checked in the upload thread (off the event loop) against the registry as it is
+    // now; lockReferences() below makes sure everything the rows refer to still exists.
+    const registry = await loadRegistry(pool)
+    const read = await runUploadCheck({ file: release.file, fileName: release.file_name, options: mapping, mapping, registry, sampleRows: 0, keepObservations: true })
+    if (!read.ok) throw new UploadError(read.message, read.problems, read.statusCode)
+    const checked = read.validation!
+    if (!checked.ok) throw new ImportFailure(problemMessage(checked), checked.problems)
+    await onProgress(0.1, `Checked ${read.table.rowCount.toLocaleString('en')} rows`)
 
     await client.query('BEGIN')
     began = true
-    const registry = await loadRegistry(client)
-    const checked = validateTable(table, mapping, registry)
-    if (!checked.ok) throw new ImportFailure(problemMessage(checked), checked.problems)
     await onProgress(0.2, `Importing ${checked.observations.length.toLocaleString('en')} values`)
 
     const createdMeasures: string[] = []
@@ -189,5 +194,5 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
 export async function markReleaseFailed(db: Queryable, releaseId: number, problems: UploadProblem[]): Promise<void> {
   await db.query(
     `UPDATE source_releases SET status = 'failed', errors = $2 WHERE id = $1 AND status = 'importing'`,
-    [releaseId, JSON.stringify(problems.slice(0, 1000))])
+    [releaseId, JSON.stringify(problems.slice(0, MAX_PROBLEMS))])
 }

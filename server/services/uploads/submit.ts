@@ -2,6 +2,8 @@
  * Upload of a release: checks everything before anything is written (bad files leave the
  * database as it was), then stores the release (file kept with its SHA-256) and queues
  * its import as a job. Also the preview the upload page shows before the mapping is set.
+ * The file is read and checked in the upload thread (runUploadCheck.ts), never on the
+ * server's event loop; what it is and a workbook's zip directory are judged first, here.
  */
 import { and, eq, inArray } from 'drizzle-orm'
 import { sourceReleases } from '~~/db/schema'
@@ -11,13 +13,17 @@ import type { Upload } from '../../utils/upload'
 import { findSource } from '../registry/sources'
 import { checksumOf } from './checksum'
 import { loadRegistry } from './importRelease'
-import { readTable, UploadError, type Cell, type Table } from './readTable'
-import { problemMessage, validateTable, type Validation } from './validate'
+import type { CheckRequest, TableSummary } from './checkUpload'
+import { checkZipDirectory, sniff } from './preflight'
+import type { Cell } from './readTable'
+import { runUploadCheck } from './runUploadCheck'
+import { UploadError } from './uploadError'
+import { problemMessage, type Validation } from './validate'
 
 export const IMPORT_JOB = 'import-release'
 
-function refuse(statusCode: number, message: string, errors: UploadProblem[]): never {
-  throw createError({ statusCode, message, data: { message, errors, issues: [] } })
+function refuse(statusCode: number, message: string, errors: UploadProblem[], problemCount = errors.length): never {
+  throw createError({ statusCode, message, data: { message, errors, problemCount, issues: [] } })
 }
 
 function parseMapping(text: string | undefined): Mapping {
@@ -37,14 +43,31 @@ function parseMapping(text: string | undefined): Mapping {
   return result.data
 }
 
-async function readChecked(upload: Upload, options: { delimiter?: string, sheet?: string }): Promise<Table> {
+/** Refuses at once what needs no parsing: an empty file, a non-table, a zip bomb by its directory. */
+function quickChecks(upload: Upload): void {
   try {
-    return await readTable(upload.file, upload.fileName, options)
+    if (sniff(upload.file, upload.fileName) === 'xlsx') checkZipDirectory(upload.file)
   }
   catch (e) {
-    if (e instanceof UploadError) refuse(400, e.message, e.problems)
+    if (e instanceof UploadError) refuse(e.statusCode, e.message, e.problems)
     throw e
   }
+}
+
+/** Reads (and with a mapping, validates) the file in the upload thread; refuses an unreadable file. */
+async function checked(upload: Upload, options: { delimiter?: string, sheet?: string }, mapping: Mapping | null, sampleRows = 0): Promise<{ table: TableSummary, validation: Validation | null }> {
+  quickChecks(upload)
+  const request: CheckRequest = {
+    file: upload.file,
+    fileName: upload.fileName,
+    options: { delimiter: options.delimiter, sheet: options.sheet },
+    mapping,
+    registry: mapping ? await loadRegistry(usePool()) : null,
+    sampleRows,
+  }
+  const result = await runUploadCheck(request)
+  if (!result.ok) refuse(result.statusCode, result.message, result.problems)
+  return result
 }
 
 async function sameFile(sourceId: number, checksum: string) {
@@ -52,10 +75,6 @@ async function sameFile(sourceId: number, checksum: string) {
     .from(sourceReleases)
     .where(and(eq(sourceReleases.sourceId, sourceId), eq(sourceReleases.checksum, checksum), inArray(sourceReleases.status, ['done', 'importing'])))
   return row ?? null
-}
-
-async function validate(table: Table, mapping: Mapping): Promise<Validation> {
-  return validateTable(table, mapping, await loadRegistry(usePool()))
 }
 
 function report(v: Validation) {
@@ -66,14 +85,15 @@ function report(v: Validation) {
 export async function submitRelease(userId: number, sourceId: number, upload: Upload) {
   const source = await findSource(useDb(), sourceId)
   const mapping = parseMapping(upload.fields.mapping)
-  const table = await readChecked(upload, mapping)
+  quickChecks(upload)
   const checksum = checksumOf(upload.file)
   const previous = await sameFile(source.id, checksum)
   if (previous) {
     refuse(409, `This file is identical to release #${previous.id}${previous.label ? ` ("${previous.label}")` : ''} of ${source.name}, uploaded ${previous.createdAt.toISOString().slice(0, 10)}${previous.status === 'importing' ? ' and still importing' : ''}; nothing was imported.`, [])
   }
-  const checked = await validate(table, mapping)
-  if (!checked.ok) refuse(400, problemMessage(checked), checked.problems)
+  const { validation } = await checked(upload, mapping, mapping)
+  const checkedFile = validation!
+  if (!checkedFile.ok) refuse(400, problemMessage(checkedFile), checkedFile.problems, checkedFile.problemCount)
 
   const label = upload.fields.label?.trim() || mapping.label || null
   const { releaseId, jobId } = await useDb().transaction(async (tx) => {
@@ -99,7 +119,7 @@ export async function submitRelease(userId: number, sourceId: number, upload: Up
     return { releaseId: release!.id, jobId }
   })
   await dispatchJob(jobId, IMPORT_JOB, { releaseId })
-  return { jobId, releaseId, checksum, summary: checked.summary, warnings: checked.warnings }
+  return { jobId, releaseId, checksum, summary: checkedFile.summary, warnings: checkedFile.warnings }
 }
 
 const shown = (c: Cell): string | number | null => (c instanceof Date ? c.toISOString().slice(0, 10) : c)
@@ -116,7 +136,7 @@ function looksLikePeriod(c: Cell): boolean {
 }
 
 /** A first guess at the mapping from the column names (the page lets the person correct it). */
-function suggestMapping(table: Table): Record<string, unknown> {
+function suggestMapping(table: Pick<TableSummary, 'columns' | 'headerCells'>): Record<string, unknown> {
   const cols = table.columns
   const find = (re: RegExp) => cols.find(c => re.test(c))
   const jurisdiction = find(/^(jurisdiction|code|unit|municipality|region_code|geo|area)/i) ?? cols[0]
@@ -133,8 +153,9 @@ function suggestMapping(table: Table): Record<string, unknown> {
 /** The first rows and the columns of a file; with a mapping, the full check too. Writes nothing. */
 export async function previewRelease(sourceId: number, upload: Upload) {
   const source = await findSource(useDb(), sourceId)
-  const options = upload.fields.mapping ? parseMapping(upload.fields.mapping) : { delimiter: upload.fields.delimiter, sheet: upload.fields.sheet }
-  const table = await readChecked(upload, options)
+  const mapping = upload.fields.mapping ? parseMapping(upload.fields.mapping) : null
+  const options = mapping ?? { delimiter: upload.fields.delimiter, sheet: upload.fields.sheet }
+  const { table, validation } = await checked(upload, options, mapping, 20)
   const previous = await sameFile(source.id, checksumOf(upload.file))
   return {
     fileName: upload.fileName,
@@ -142,10 +163,11 @@ export async function previewRelease(sourceId: number, upload: Upload) {
     delimiter: table.delimiter,
     sheet: table.sheet,
     columns: table.columns,
-    rows: table.rows.slice(0, 20).map(r => r.map(shown)),
-    rowCount: table.rows.length,
+    rows: table.sample.map(r => r.map(shown)),
+    rowCount: table.rowCount,
+    notes: table.notes,
     suggestion: suggestMapping(table),
     duplicateOf: previous ? { id: previous.id, label: previous.label, createdAt: previous.createdAt } : null,
-    validation: 'layout' in options ? report(await validate(table, options as Mapping)) : null,
+    validation: validation ? report(validation) : null,
   }
 }

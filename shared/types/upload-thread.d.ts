@@ -1,0 +1,5 @@
+/** The URL of the bundled upload thread (server/build/uploadThread.ts makes it at build time). */
+declare module '#upload-thread' {
+  const url: string
+  export default url
+}
