@@ -13,8 +13,9 @@
  * COUNTERPART_LOAD_USERS and COUNTERPART_LOAD_SECONDS change the size; COUNTERPART_LOAD_PHASES=plain
  * runs the first phase only (with COUNTERPART_LOAD_PROFILE=1, to profile one request mix).
  */
+import { cpus, loadavg } from 'node:os'
 import pg from 'pg'
-import { rssMb, startStack, workerNodePid, type Stack } from './load/stack'
+import { cpuSeconds, rssMb, startStack, workerNodePid, type Stack } from './load/stack'
 import { act, makeAccounts, MIX, pickAction, prepareUser, Session, type Action, type LoadUser } from './load/users'
 
 const USERS = Number(process.env.COUNTERPART_LOAD_USERS ?? 50)
@@ -50,6 +51,7 @@ async function phase(name: string, stack: Stack, users: LoadUser[]) {
     rss.web = Math.max(rss.web, rssMb(stack.web.pid) || 0)
     rss.worker = Math.max(rss.worker, rssMb(workerPid) || 0)
   }, 500)
+  const cpu0 = { web: cpuSeconds(stack.web.pid), worker: cpuSeconds(workerPid) }
   const end = Date.now() + SECONDS * 1000
   const t0 = performance.now()
   await Promise.all(users.map(async (user, i) => {
@@ -71,6 +73,7 @@ async function phase(name: string, stack: Stack, users: LoadUser[]) {
   }))
   const wall = (performance.now() - t0) / 1000
   clearInterval(meter)
+  const cpu = { web: cpuSeconds(stack.web.pid) - cpu0.web, worker: cpuSeconds(workerPid) - cpu0.worker }
   const all = samples.map(s => s.ms).sort((a, b) => a - b)
   const failed = samples.filter(s => !s.ok).length
   const line = (label: string, xs: number[]) => `  ${label.padEnd(11)} ${String(xs.length).padStart(6)} req  p50 ${quantile(xs, 0.5).toFixed(0).padStart(5)} ms  p95 ${quantile(xs, 0.95).toFixed(0).padStart(5)} ms  p99 ${quantile(xs, 0.99).toFixed(0).padStart(5)} ms`
@@ -78,6 +81,8 @@ async function phase(name: string, stack: Stack, users: LoadUser[]) {
   console.log(line('all', all))
   for (const [action] of MIX) console.log(line(action, samples.filter(s => s.action === action).map(s => s.ms).sort((a, b) => a - b)))
   console.log(`  RSS (max)   web ${rss.web.toFixed(0)} MB, worker ${rss.worker.toFixed(0)} MB`)
+  // CPU per request is what a busy machine changes least: it says what each request costs the web process
+  console.log(`  CPU         web ${cpu.web.toFixed(1)} s (${(1000 * cpu.web / samples.length).toFixed(1)} ms a request, ${(100 * cpu.web / wall).toFixed(0)}% of a core), worker ${cpu.worker.toFixed(1)} s; load average ${loadavg()[0]!.toFixed(1)} on ${cpus().length} cores`)
   for (const [what, n] of errors) console.log(`  error x${n}: ${what}`)
   return { name, p95: quantile(all, 0.95), failed }
 }

@@ -44,6 +44,17 @@ export function rssMb(pid: number | undefined): number {
   }
 }
 
+/** CPU seconds (user + system) a process has used so far (Linux /proc), or NaN. */
+export function cpuSeconds(pid: number | undefined): number {
+  try {
+    const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]!.split(' ')
+    return (Number(fields[11]) + Number(fields[12])) / 100 // utime, stime in clock ticks (100 a second on Linux)
+  }
+  catch {
+    return Number.NaN
+  }
+}
+
 export async function startStack(): Promise<Stack> {
   const port = Number(process.env.COUNTERPART_LOAD_PORT ?? 3190)
   const url = `http://127.0.0.1:${port}`
