@@ -36,6 +36,41 @@ afterAll(async () => {
   await closePool()
 })
 
+/** A new source, four new measures and a CSV of 60 x 600 x 4 = 144,000 values over the demo jurisdictions. */
+async function bigImport() {
+  const tag = runTag().toLowerCase()
+  const measures = [1, 2, 3, 4].map(i => `load_${tag}_${i}`)
+  for (const key of measures) {
+    const res = await admin.post('/api/measures', { key, label: `Test load ${key}`, unit: 'count', kind: 'outcome', frequency: 'month' })
+    expect(res.status, JSON.stringify(res.body)).toBe(201)
+  }
+  const source = await admin.post('/api/sources', { name: `Big import ${tag}`, publisher: 'Test office' })
+  const codes = (await sql<{ code: string }>('SELECT code FROM jurisdictions ORDER BY code LIMIT 60')).map(r => r.code)
+  const lines = [`code,month,${measures.join(',')}`]
+  for (const code of codes) {
+    for (let m = 0; m < 600; m++) lines.push(`${code},${1950 + Math.floor(m / 12)}-${String(m % 12 + 1).padStart(2, '0')},${m},${m + 1},${m + 2},${m + 3}`)
+  }
+  const mapping = { layout: 'long', jurisdiction: 'code', period: 'month', values: Object.fromEntries(measures.map(k => [k, k])) }
+  return { sourceId: source.body.id as number, csv: `${lines.join('\n')}\n`, mapping }
+}
+
+/** Uploads and waits until the import is inserting rows (progress 0.2 or more). */
+async function importUnderWay(file: Awaited<ReturnType<typeof bigImport>>) {
+  const res = await uploadRelease(analyst, file.sourceId, file.csv, 'big.csv', file.mapping)
+  expect(res.status, JSON.stringify(res.body)).toBe(202)
+  const running = await waitForRow(res.body.jobId, r => finished(r) || (r.state === 'running' && r.progress >= 0.2), 60_000)
+  expect(running.state, 'the import was still running when the test meant to stop it').toBe('running')
+  return { jobId: res.body.jobId as string, releaseId: res.body.releaseId as number, running }
+}
+
+async function expectNothingKept(releaseId: number, problem: RegExp) {
+  const [release] = await sql('SELECT status, errors FROM source_releases WHERE id = $1', [releaseId])
+  expect(release.status).toBe('failed')
+  expect(release.errors[0].problem).toMatch(problem)
+  const [{ n }] = await sql('SELECT count(*)::int AS n FROM observations WHERE release_id = $1', [releaseId])
+  expect(n).toBe(0)
+}
+
 describe('a worker runs the job', () => {
   it('picks it up, reports progress in steps and finishes; the web process never runs it', async () => {
     const id = await sendSleepJob(analystId, { steps: 8, stepMs: 250 })
@@ -104,6 +139,21 @@ describe('cancel', () => {
   })
 })
 
+describe('cancel an import', () => {
+  it('rolls the import back: cancelled, no rows, release failed, and the same file can be uploaded again', async () => {
+    const file = await bigImport()
+    const first = await importUnderWay(file)
+    expect((await analyst.post(`/api/jobs/${first.jobId}/cancel`)).status).toBe(200)
+    const ended = await waitForRow(first.jobId, finished, 15_000)
+    expect(ended.state).toBe('cancelled')
+    await expectNothingKept(first.releaseId, /cancel/i)
+    const again = await uploadRelease(analyst, file.sourceId, file.csv, 'big.csv', file.mapping)
+    expect(again.status, JSON.stringify(again.body)).toBe(202)
+    expect((await analyst.post(`/api/jobs/${again.body.jobId}/cancel`)).status).toBe(200)
+    expect(await waitForRow(again.body.jobId, finished, 15_000)).toMatchObject({ state: 'cancelled' })
+  }, 120_000)
+})
+
 describe('two workers', () => {
   it('never run the same job twice, and both take jobs', async () => {
     const ids: string[] = []
@@ -133,34 +183,13 @@ describe('a worker killed mid-job', () => {
   }, 40_000)
 
   it('an import killed mid-way leaves no rows, its release is failed, and the same file goes in again at once', async () => {
-    const tag = runTag().toLowerCase()
-    const measures = [1, 2, 3, 4].map(i => `load_${tag}_${i}`)
-    for (const key of measures) {
-      const res = await admin.post('/api/measures', { key, label: `Test load ${key}`, unit: 'count', kind: 'outcome', frequency: 'month' })
-      expect(res.status, JSON.stringify(res.body)).toBe(201)
-    }
-    const source = await admin.post('/api/sources', { name: `Killed import ${tag}`, publisher: 'Test office' })
-    const codes = (await sql<{ code: string }>('SELECT code FROM jurisdictions ORDER BY code LIMIT 60')).map(r => r.code)
-    const lines = [`code,month,${measures.join(',')}`]
-    for (const code of codes) {
-      for (let m = 0; m < 600; m++) lines.push(`${code},${1950 + Math.floor(m / 12)}-${String(m % 12 + 1).padStart(2, '0')},${m},${m + 1},${m + 2},${m + 3}`)
-    }
-    const csv = `${lines.join('\n')}\n` // 60 x 600 x 4 = 144,000 values
-    const mapping = { layout: 'long', jurisdiction: 'code', period: 'month', values: Object.fromEntries(measures.map(k => [k, k])) }
-    const first = await uploadRelease(analyst, source.body.id, csv, 'killed.csv', mapping)
-    expect(first.status, JSON.stringify(first.body)).toBe(202)
-    const running = await waitForRow(first.body.jobId, r => finished(r) || (r.state === 'running' && r.progress >= 0.2), 60_000)
-    expect(running.state, 'the import was still running when the test meant to kill it').toBe('running')
-    process.kill(runnerPid(running.runner), 'SIGKILL')
-    const failed = await waitForRow(first.body.jobId, finished, 30_000)
-    expect(failed.state).toBe('failed')
-    const [release] = await sql('SELECT status, errors FROM source_releases WHERE id = $1', [first.body.releaseId])
-    expect(release.status).toBe('failed')
-    expect(release.errors[0].problem).toMatch(/stopped before it finished/)
-    const [{ n }] = await sql('SELECT count(*)::int AS n FROM observations WHERE release_id = $1', [first.body.releaseId])
-    expect(n).toBe(0)
+    const file = await bigImport()
+    const first = await importUnderWay(file)
+    process.kill(runnerPid(first.running.runner), 'SIGKILL')
+    expect(await waitForRow(first.jobId, finished, 30_000)).toMatchObject({ state: 'failed' })
+    await expectNothingKept(first.releaseId, /stopped before it finished/)
 
-    const again = await uploadRelease(analyst, source.body.id, csv, 'killed.csv', mapping)
+    const again = await uploadRelease(analyst, file.sourceId, file.csv, 'big.csv', file.mapping)
     expect(again.status, JSON.stringify(again.body)).toBe(202)
     const job = await waitForJob(analyst, again.body.jobId, 90_000)
     expect(job).toMatchObject({ state: 'done', result: { rowCount: 144_000 } })
