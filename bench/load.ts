@@ -142,7 +142,9 @@ async function main() {
     if (process.env.COUNTERPART_LOAD_PHASES === 'plain') return report(results)
 
     const csv = await prepareImport(stack)
+    const uploadAt = performance.now()
     const jobId = await startImport(stack, admin, csv)
+    console.log(`\nthe ${(csv.length / 1e6).toFixed(1)} MB upload was answered in ${((performance.now() - uploadAt) / 1000).toFixed(1)} s (the web process reads and checks the file before queueing its import)`)
     const started = Date.now()
     results.push(await phase(`while a ${IMPORT_ROWS.toLocaleString('en')}-row import runs`, stack, users))
     let job = await jobState(admin, jobId)

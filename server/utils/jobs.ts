@@ -32,7 +32,11 @@ import type { Db } from './db'
 export interface JobContext {
   jobId: string
   userId: number | null
-  /** Records progress; throws JobCancelled once the job has been cancelled. */
+  /**
+   * Records progress; throws JobCancelled once the job has been cancelled. Writes closer than
+   * 200 ms apart are skipped, so a cancel is seen by the first call that writes (at most
+   * 200 ms after it) or, between calls, by the next heartbeat (2 s).
+   */
   progress(fraction: number, message?: string): Promise<void>
 }
 
