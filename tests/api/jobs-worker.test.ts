@@ -10,7 +10,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { as, anonymous, DEMO, type Client } from '../support/http'
 import { closePool, sql } from '../support/db'
-import { closeQueue, jobRow, runnerPid, sendSleepJob, startWorker, userId, waitForRow, type StartedWorker } from '../support/jobs'
+import { closeQueue, getOverSocket, jobRow, runnerPid, sendSleepJob, startWorker, userId, waitForRow, type StartedWorker } from '../support/jobs'
 import { runTag, uploadRelease, waitForJob } from '../support/uploads'
 
 let admin: Client
@@ -90,10 +90,15 @@ describe('a worker runs the job', () => {
     expect((await jobRow(id)).runner).toMatch(/ worker$/)
   })
 
-  it('the extra worker answers only its health check', async () => {
+  it('the extra worker answers only its health check: no pages, no API', async () => {
     const health = await extra!.health()
     expect(health).toMatchObject({ role: 'worker', consumes: expect.arrayContaining(['import-release', 'test-sleep']) })
     expect(health.runner).toContain(`:${extra!.pid} worker`)
+    for (const path of ['/', '/api/me', '/api/jobs/00000000-0000-0000-0000-000000000000', '/login']) {
+      const res = await getOverSocket(extra!.socket, path)
+      expect(res.status, path).toBe(404)
+      expect(JSON.stringify(res.body), path).toMatch(/serves no pages/)
+    }
   })
 })
 

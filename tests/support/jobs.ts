@@ -68,16 +68,30 @@ export function runnerPid(runner: string | null): number {
   return pid
 }
 
-function health(socketPath: string): Promise<any> {
+/** A GET over a worker's unix socket: status and parsed body. */
+export function getOverSocket(socketPath: string, path: string): Promise<{ status: number, body: any }> {
   return new Promise((resolve, reject) => {
-    const req = request({ socketPath, path: '/_worker/health', method: 'GET' }, (res) => {
+    const req = request({ socketPath, path, method: 'GET', headers: { accept: 'application/json' } }, (res) => {
       let text = ''
       res.on('data', (c) => { text += c })
-      res.on('end', () => res.statusCode === 200 ? resolve(JSON.parse(text)) : reject(new Error(`health ${res.statusCode}`)))
+      res.on('end', () => {
+        let body: unknown = text
+        try {
+          body = JSON.parse(text)
+        }
+        catch { /* keep the text */ }
+        resolve({ status: res.statusCode ?? 0, body })
+      })
     })
     req.on('error', reject)
     req.end()
   })
+}
+
+async function health(socketPath: string): Promise<any> {
+  const res = await getOverSocket(socketPath, '/_worker/health')
+  if (res.status !== 200) throw new Error(`health ${res.status}`)
+  return res.body
 }
 
 export interface StartedWorker { child: ChildProcess, socket: string, pid: number, health: () => Promise<any> }
