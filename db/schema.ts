@@ -284,14 +284,18 @@ export const auditLog = pgTable('audit_log', {
   after: jsonb('after'),
 }, t => [index('audit_log_entity').on(t.entity, t.entityId), index('audit_log_at').on(t.at)])
 
-/** Our view of a background job (pg-boss runs it); the worker writes progress here. */
+/** Our view of a background job (pg-boss runs it); the worker writes progress, heartbeat and outcome here. */
 export const jobs = pgTable('jobs', {
   id: uuid('id').primaryKey().default(sql`gen_random_uuid()`),
   kind: text('kind').notNull(),
-  state: text('state', { enum: ['queued', 'running', 'done', 'failed'] }).notNull().default('queued'),
+  state: text('state', { enum: ['queued', 'running', 'done', 'failed', 'cancelled'] }).notNull().default('queued'),
   progress: doublePrecision('progress').notNull().default(0),
   message: text('message'),
   result: jsonb('result'),
+  /** Which process runs it ("host:pid role"), set when a worker claims it. */
+  runner: text('runner'),
+  /** Set by a cancel; the running job stops at its next progress report. */
+  cancelRequestedAt: timestamp('cancel_requested_at', { withTimezone: true }),
   createdBy: integer('created_by').references(() => users.id),
   createdAt: createdAt(),
   updatedAt: timestamp('updated_at', { withTimezone: true }).notNull().defaultNow(),

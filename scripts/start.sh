@@ -32,6 +32,9 @@ export PUBLIC_ORIGIN="http://127.0.0.1:$APP_PORT"
 export NUXT_SMTP_PORT=2525 NUXT_MAIL_CATCHER_URL="http://127.0.0.1:2580"
 log "Counterpart on http://127.0.0.1:$APP_PORT  (demo accounts: admin@, analyst@, reviewer@counterpart.test / counterpart-demo)"
 log "mails caught at http://127.0.0.1:2580/messages; stop with Ctrl-C (PostgreSQL keeps running: npm run db:stop)"
-setsid node .output/server/index.mjs &
+# one job worker beside the web process (more: `npm run worker` on any machine reaching the database)
+setsid bash scripts/worker.sh > "$DATA_DIR/logs/worker.log" 2>&1 &
+pids+=($!)
+COUNTERPART_ROLE=web setsid node .output/server/index.mjs &
 pids+=($!)
 wait "${pids[-1]}"

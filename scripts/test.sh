@@ -45,16 +45,29 @@ pids+=($!)
 rm -f "$DATA_DIR/mail/test-messages.json"
 
 export COUNTERPART_TEST_URL="http://127.0.0.1:$TEST_PORT"
-HOST=127.0.0.1 PORT=$TEST_PORT NUXT_AUTH_SECRET="$(random_secret)" \
+export COUNTERPART_TEST_JOBS=1 # the job-system tests' own job kind (server/services/jobs/testJobs.ts)
+# one random secret for the web process and every worker (the tests start more workers with this environment)
+export NUXT_AUTH_SECRET="$(random_secret)"
+HOST=127.0.0.1 PORT=$TEST_PORT \
   AUTH_ORIGIN="$COUNTERPART_TEST_URL/api/auth" PUBLIC_ORIGIN="$COUNTERPART_TEST_URL" \
   NUXT_SMTP_PORT=$SMTP_TEST_PORT NUXT_MAIL_CATCHER_URL="$MAIL_CATCHER_URL" \
-  setsid node .output/server/index.mjs > "$DATA_DIR/logs/test-app.log" 2>&1 &
+  COUNTERPART_ROLE=web setsid node .output/server/index.mjs > "$DATA_DIR/logs/test-app.log" 2>&1 &
+pids+=($!)
+# the jobs run in a separate worker process, as in production (tests/api/jobs-*.test.ts start more)
+export COUNTERPART_WORKER_SOCKET="$DATA_DIR/run/test-worker.sock"
+NUXT_SMTP_PORT=$SMTP_TEST_PORT NUXT_MAIL_CATCHER_URL="$MAIL_CATCHER_URL" \
+  setsid bash scripts/worker.sh > "$DATA_DIR/logs/test-worker.log" 2>&1 &
 pids+=($!)
 for _ in $(seq 1 60); do
   curl -sf "$COUNTERPART_TEST_URL/api/auth/csrf" >/dev/null 2>&1 && break
   sleep 0.5
 done
 curl -sf "$COUNTERPART_TEST_URL/api/auth/csrf" >/dev/null 2>&1 || { tail -30 "$DATA_DIR/logs/test-app.log"; fail_setup "server did not start"; }
+for _ in $(seq 1 60); do
+  curl -sf --unix-socket "$COUNTERPART_WORKER_SOCKET" http://worker/_worker/health >/dev/null 2>&1 && break
+  sleep 0.5
+done
+curl -sf --unix-socket "$COUNTERPART_WORKER_SOCKET" http://worker/_worker/health >/dev/null 2>&1 || { tail -30 "$DATA_DIR/logs/test-worker.log"; fail_setup "worker did not start"; }
 
 log "vitest"
 npx vitest run --reporter=default --reporter=json --outputFile.json="$RESULTS/vitest.json"

@@ -1,63 +1,96 @@
 /**
- * Background jobs: pg-boss runs them (its queue lives in PostgreSQL, so several worker
- * processes on several machines can share one database); our `jobs` table holds what
- * people see: state, progress 0..1, message and result (GET /api/jobs/:id).
+ * Background jobs: pg-boss runs them (its queue lives in PostgreSQL, so any number of worker
+ * processes on any machines can share one database); our `jobs` table holds what people see:
+ * state, progress 0..1, message, result, and which process runs it (GET /api/jobs/:id).
  *
- *   defineJob('import-release', async (data, job) => { await job.progress(0.5, 'Half'); return result })
+ *   defineJob('import-release', { run: async (data, job) => { await job.progress(0.5, 'Half'); return result } })
  *   const id = await createJob(tx, 'import-release', userId, { releaseId })   // inside the caller's transaction
  *   await dispatchJob(id, 'import-release', { releaseId })                    // after commit
  *
- * A handler's return value becomes the job's result; a throw fails the job with its
- * message (and `problems`, when the error carries them). Jobs do not retry. A running job
- * touches its row every 20 s; one silent for 3 minutes (its process died) is failed by
- * the sweep, which also runs each job kind's `abandoned` hook.
+ * Where jobs run: only processes whose role runs jobs (COUNTERPART_ROLE worker or all, see
+ * processRole.ts) take them off the queue; a web process only sends. A handler's return
+ * value becomes the job's result; a throw fails the job with its message (and `problems`,
+ * when the error carries them). Jobs do not retry.
+ *
+ * Cancel (POST /api/jobs/:id/cancel): a queued job never starts; a running job's next
+ * job.progress(...) throws JobCancelled (jobCancelled.ts), and the job ends "cancelled".
+ *
+ * A process that dies: a running job beats every 2 s and holds a liveness lock
+ * (../services/jobs/liveness.ts); every process sweeps every 3 s, failing jobs silent for
+ * 10 s whose lock is gone and running their kind's `abandoned` hook.
  */
+import { and, eq } from 'drizzle-orm'
 import PgBoss from 'pg-boss'
-import { and, eq, lt, sql } from 'drizzle-orm'
 import { jobs } from '~~/db/schema'
+import { afterCancel, requestCancel } from '../services/jobs/cancel'
+import { closeLiveness } from '../services/jobs/liveness'
+import { runJob } from '../services/jobs/run'
+import { SWEEP_MS, sweepDeadJobs } from '../services/jobs/sweep'
+import type { SessionUser } from './auth'
 import type { Db } from './db'
 
 export interface JobContext {
   jobId: string
   userId: number | null
+  /**
+   * Records progress; throws JobCancelled once the job has been cancelled. Writes closer than
+   * 200 ms apart are skipped, so a cancel is seen by the first call that writes (at most
+   * 200 ms after it) or, between calls, by the next heartbeat (2 s).
+   */
   progress(fraction: number, message?: string): Promise<void>
 }
 
 export interface JobDefinition<T> {
   run(data: T, job: JobContext): Promise<unknown>
-  /** Clean-up for a job whose process died (the sweep calls it with the job's initial result). */
-  abandoned?(jobId: string, initial: Record<string, unknown> | null): Promise<void>
+  /**
+   * Clean-up for a job that will never finish its work: its process died ('died', called by
+   * the sweep) or it was cancelled before it started ('cancelled'). Gets the job's initial result.
+   */
+  abandoned?(jobId: string, initial: Record<string, unknown> | null, reason: 'died' | 'cancelled'): Promise<void>
 }
 
 const definitions = new Map<string, JobDefinition<any>>()
 let started: Promise<PgBoss> | undefined
+let sweeper: ReturnType<typeof setInterval> | undefined
 
-const HEARTBEAT_MS = 20_000
-const STALE_MINUTES = 3
+function databaseUrl(): string {
+  return process.env.DATABASE_URL || useRuntimeConfig().databaseUrl
+}
 
 export function defineJob<T extends object>(kind: string, definition: JobDefinition<T>): void {
   definitions.set(kind, definition)
-  if (started) started.then(boss => listen(boss, kind)).catch(() => {})
+  if (started && runsJobs()) started.then(boss => listen(boss, kind)).catch(() => {})
 }
 
-/** Starts pg-boss once per process; the promise is kept so senders can wait for it. */
+/**
+ * Starts pg-boss once per process (consuming every defined kind when this process runs
+ * jobs) and the sweep; the promise is kept so senders can wait for it.
+ */
 export function startJobs(): Promise<PgBoss> {
   started ??= (async () => {
-    const url = process.env.DATABASE_URL || useRuntimeConfig().databaseUrl
-    const boss = new PgBoss({ connectionString: url, max: 4 })
+    const boss = new PgBoss({ connectionString: databaseUrl(), max: 4 })
     boss.on('error', e => console.error('[jobs]', e.message))
     await boss.start()
-    for (const kind of definitions.keys()) await listen(boss, kind)
+    if (runsJobs()) for (const kind of definitions.keys()) await listen(boss, kind)
     return boss
   })()
+  if (!sweeper) {
+    sweepAbandonedJobs().catch(() => {})
+    sweeper = setInterval(() => sweepAbandonedJobs().catch(() => {}), SWEEP_MS)
+    sweeper.unref()
+  }
   return started
 }
 
 export async function stopJobs(): Promise<void> {
+  clearInterval(sweeper)
+  sweeper = undefined
   if (!started) return
   const boss = await started.catch(() => null)
   started = undefined
+  listening.clear()
   await boss?.stop({ graceful: false, wait: false }).catch(() => {})
+  await closeLiveness()
 }
 
 const listening = new Set<string>()
@@ -65,9 +98,15 @@ async function listen(boss: PgBoss, kind: string) {
   if (listening.has(kind)) return
   listening.add(kind)
   await boss.createQueue(kind)
+  const runner = runnerName()
   await boss.work<Record<string, unknown>>(kind, { pollingIntervalSeconds: 0.5, batchSize: 1 }, async (batch) => {
-    for (const job of batch) await runOne(kind, job.id, job.data)
+    for (const job of batch) await runJob(definitions.get(kind), kind, job.id, job.data, databaseUrl(), runner)
   })
+}
+
+/** The job kinds this process takes off the queue (none in a web process). */
+export function consumedKinds(): string[] {
+  return [...listening]
 }
 
 /** Creates our row for a job (state queued). Use the caller's transaction. */
@@ -76,69 +115,35 @@ export async function createJob(db: Pick<Db, 'insert'>, kind: string, userId: nu
   return row!.id
 }
 
+const queues = new Set<string>()
+
 /** Hands a created job to the queue; a queue failure fails the job with the reason. */
 export async function dispatchJob(id: string, kind: string, data: object): Promise<void> {
   try {
     const boss = await startJobs()
+    if (!queues.has(kind)) {
+      await boss.createQueue(kind)
+      queues.add(kind)
+    }
     await boss.send(kind, { ...data, jobId: id }, { id, retryLimit: 0, expireInHours: 2 })
   }
   catch (e) {
-    await finishJob(id, 'failed', `Could not queue the job: ${(e as Error).message}`, null)
+    await useDb().update(jobs).set({ state: 'failed', message: `Could not queue the job: ${(e as Error).message}`, updatedAt: new Date() })
+      .where(and(eq(jobs.id, id), eq(jobs.state, 'queued')))
     throw e
   }
 }
 
-async function finishJob(id: string, state: 'done' | 'failed', message: string, result: unknown) {
-  await useDb().update(jobs).set({ state, message, result: result ?? null, progress: state === 'done' ? 1 : sql`${jobs.progress}`, updatedAt: new Date() }).where(eq(jobs.id, id))
+/** Cancels a job for its creator or an admin (404 otherwise, 409 when it has finished). */
+export async function cancelJob(user: SessionUser, id: string) {
+  const outcome = await requestCancel(user, id)
+  await afterCancel(outcome, definitions.get(outcome.kind), async (kind, jobId) => {
+    await (await startJobs()).cancel(kind, jobId)
+  }).catch(e => console.error('[jobs] clean-up after cancel of', id, e))
+  return { id: outcome.id, kind: outcome.kind, state: outcome.state, message: outcome.message }
 }
 
-async function runOne(kind: string, id: string, data: Record<string, unknown>) {
-  const db = useDb()
-  const definition = definitions.get(kind)
-  const [row] = await db.update(jobs).set({ state: 'running', message: 'Started', updatedAt: new Date() })
-    .where(and(eq(jobs.id, id), eq(jobs.state, 'queued'))).returning({ createdBy: jobs.createdBy })
-  if (!row) return // failed by the sweep or already run elsewhere
-  if (!definition) {
-    await finishJob(id, 'failed', `No worker knows jobs of kind "${kind}".`, null)
-    return
-  }
-  let last = 0
-  const heartbeat = setInterval(() => {
-    db.update(jobs).set({ updatedAt: new Date() }).where(and(eq(jobs.id, id), eq(jobs.state, 'running'))).catch(() => {})
-  }, HEARTBEAT_MS)
-  const context: JobContext = {
-    jobId: id,
-    userId: row.createdBy,
-    async progress(fraction, message) {
-      const now = Date.now()
-      if (now - last < 200 && fraction < 1) return
-      last = now
-      await db.update(jobs).set({ progress: Math.max(0, Math.min(1, fraction)), message: message ?? null, updatedAt: new Date() })
-        .where(and(eq(jobs.id, id), eq(jobs.state, 'running')))
-    },
-  }
-  try {
-    const result = await definition.run(data, context)
-    await finishJob(id, 'done', 'Done', result)
-  }
-  catch (e) {
-    const err = e as Error & { problems?: unknown[] }
-    await finishJob(id, 'failed', err.message, { ...(data.releaseId ? { releaseId: data.releaseId } : {}), message: err.message, errors: err.problems ?? [] })
-  }
-  finally {
-    clearInterval(heartbeat)
-  }
-}
-
-/** Fails jobs whose process stopped touching them, and lets their kind clean up. */
-export async function sweepAbandonedJobs(): Promise<number> {
-  const db = useDb()
-  const stale = await db.update(jobs)
-    .set({ state: 'failed', message: 'The job stopped (its server process ended); nothing it was doing was kept.', updatedAt: new Date() })
-    .where(and(eq(jobs.state, 'running'), lt(jobs.updatedAt, sql`now() - make_interval(mins => ${STALE_MINUTES})`)))
-    .returning({ id: jobs.id, kind: jobs.kind, result: jobs.result })
-  for (const job of stale) {
-    await definitions.get(job.kind)?.abandoned?.(job.id, job.result as Record<string, unknown> | null).catch(e => console.error('[jobs] clean-up', e))
-  }
-  return stale.length
+/** Fails jobs whose process died, and lets their kind clean up (see sweep.ts). */
+export function sweepAbandonedJobs(): Promise<number> {
+  return sweepDeadJobs(kind => definitions.get(kind))
 }

@@ -25,7 +25,7 @@ export async function waitForJob(client: Client, jobId: string, timeoutMs = 30_0
   for (;;) {
     const { status, body } = await client.get(`/api/jobs/${jobId}`)
     expect(status).toBe(200)
-    if (body.state === 'done' || body.state === 'failed') return body
+    if (body.state === 'done' || body.state === 'failed' || body.state === 'cancelled') return body
     if (Date.now() - start > timeoutMs) throw new Error(`job ${jobId} still ${body.state} after ${timeoutMs} ms`)
     await new Promise(r => setTimeout(r, 150))
   }

@@ -74,6 +74,8 @@ const safeCompare = (a: string, b: string) => {
  */
 const contexts = new Map<string, { at: number, ctx: CandidateContext }>()
 const CONTEXT_TTL_MS = 5 * 60_000
+/** Kept contexts, least recently used dropped first: room for every study in use (50 at once under load). */
+const CONTEXT_CACHE_SIZE = 100
 
 async function contextKey(study: StudyRecord, maxMissing: number): Promise<string> {
   const { rows: [digest] } = await usePool().query<{ d: string }>(`SELECT concat_ws(':',
@@ -89,9 +91,13 @@ async function contextKey(study: StudyRecord, maxMissing: number): Promise<strin
 export async function candidateContext(study: StudyRecord, maxMissing = 0.2): Promise<CandidateContext> {
   const key = await contextKey(study, maxMissing)
   const hit = contexts.get(key)
-  if (hit && Date.now() - hit.at < CONTEXT_TTL_MS) return { ...hit.ctx, study }
+  if (hit && Date.now() - hit.at < CONTEXT_TTL_MS) {
+    contexts.delete(key) // most recently used last
+    contexts.set(key, hit)
+    return { ...hit.ctx, study }
+  }
   const ctx = await buildCandidateContext(study, maxMissing)
-  for (const [k, v] of contexts) if (Date.now() - v.at >= CONTEXT_TTL_MS || contexts.size > 30) contexts.delete(k)
+  for (const [k, v] of contexts) if (Date.now() - v.at >= CONTEXT_TTL_MS || contexts.size >= CONTEXT_CACHE_SIZE) contexts.delete(k)
   contexts.set(key, { at: Date.now(), ctx })
   return ctx
 }
