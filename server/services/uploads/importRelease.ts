@@ -10,6 +10,7 @@
  */
 import type pg from 'pg'
 import { mappingSchema, type UploadProblem } from '../../../shared/schemas/uploads'
+import { copyObservations } from './copyObservations'
 import { readTable, UploadError } from './readTable'
 import { problemMessage, validateTable, type MeasureInfo, type Observations, type Registry } from './validate'
 
@@ -161,7 +162,7 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
     const measureIds = checked.observations.measureKeys.map(k => registry.measures.get(k)!.id)
     await lockReferences(client, releaseId, measureIds, checked.observations)
     const total = checked.observations.length
-    await insertObservations(client, releaseId, checked.observations, measureIds, done =>
+    await copyObservations(client, releaseId, checked.observations, measureIds, done =>
       onProgress(0.2 + 0.75 * (done / total), `Imported ${done.toLocaleString('en')} of ${total.toLocaleString('en')} values`))
 
     await client.query(
