@@ -23,6 +23,37 @@ function unescapeCopy(s: string): string {
   return s.replace(/\\(.)/g, (_, c: string) => (c === 't' ? '\t' : c === 'n' ? '\n' : c === 'r' ? '\r' : c === 'b' ? '\b' : c === 'f' ? '\f' : c === 'v' ? '\v' : c))
 }
 
+const POW10 = [1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22]
+
+/**
+ * A double as PostgreSQL writes it. Plain decimals of up to 15 significant digits: an integer
+ * mantissa divided by a power of ten, one correctly rounded division (exact, Clinger 1990);
+ * anything else (exponents, NaN, Infinity, more digits) through Number.
+ */
+export function decimal(text: string, from: number, to: number): number {
+  let p = from
+  const neg = text.charCodeAt(p) === 45
+  if (neg) p++
+  let m = 0
+  let digits = 0
+  let frac = 0
+  let dot = false
+  if (p >= to) return Number(text.slice(from, to))
+  for (; p < to; p++) {
+    const c = text.charCodeAt(p)
+    if (c >= 48 && c <= 57) {
+      m = m * 10 + (c - 48)
+      if (m !== 0) digits++
+      if (dot) frac++
+    }
+    else if (c === 46 && !dot) dot = true
+    else return Number(text.slice(from, to))
+  }
+  if (digits > 15 || frac > 22) return Number(text.slice(from, to))
+  const v = frac ? m / POW10[frac]! : m
+  return neg ? -v : v
+}
+
 export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdictionIds: number[] | null, from?: string, to?: string): Promise<CurrentCells> {
   const client = await pool.connect()
   let text: string
@@ -53,27 +84,48 @@ export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdi
     client.release()
   }
 
-  // Parse: one line "jurisdiction_id \t period \t value \t release_id" per cell.
-  const lines = text.length ? text.split('\n').length - 1 : 0
+  // Parse: one line "jurisdiction_id \t period \t value \t release_id" per cell. Integers are
+  // read digit by digit; a period equal to the one at the same position in the previous
+  // jurisdiction's block (the usual case) is reused without cutting a new string.
+  let lines = 0
+  for (let k = text.indexOf('\n'); k >= 0; k = text.indexOf('\n', k + 1)) lines++
   const jid = new Int32Array(lines)
   const value = new Float64Array(lines)
   const period: string[] = new Array(lines)
   const periodOf = new Map<string, string>()
   const releases = new Set<number>()
   let lastRelease = -1
+  let previousBlock: string[] = []
+  let block: string[] = []
   let n = 0
+  const int = (from: number, to: number) => {
+    let v = 0
+    for (let k = from; k < to; k++) v = v * 10 + (text.charCodeAt(k) - 48)
+    return v
+  }
   for (let p = 0; p < text.length && n < lines;) {
     const t1 = text.indexOf('\t', p)
     const t2 = text.indexOf('\t', t1 + 1)
     const t3 = text.indexOf('\t', t2 + 1)
     const nl = text.indexOf('\n', t3 + 1)
-    jid[n] = Number(text.slice(p, t1))
-    const rawPeriod = text.slice(t1 + 1, t2)
-    let per = periodOf.get(rawPeriod)
-    if (per === undefined) periodOf.set(rawPeriod, (per = rawPeriod.includes('\\') ? unescapeCopy(rawPeriod) : rawPeriod))
+    jid[n] = int(p, t1)
+    if (n > 0 && jid[n] !== jid[n - 1]) {
+      previousBlock = block
+      block = []
+    }
+    const guess = previousBlock[block.length]
+    let per: string
+    if (guess !== undefined && guess.length === t2 - t1 - 1 && text.startsWith(guess, t1 + 1)) per = guess
+    else {
+      const rawPeriod = text.slice(t1 + 1, t2)
+      let known = periodOf.get(rawPeriod)
+      if (known === undefined) periodOf.set(rawPeriod, (known = rawPeriod.includes('\\') ? unescapeCopy(rawPeriod) : rawPeriod))
+      per = known
+    }
+    block.push(per)
     period[n] = per
-    value[n] = Number(text.slice(t2 + 1, t3))
-    const release = Number(text.slice(t3 + 1, nl))
+    value[n] = decimal(text, t2 + 1, t3)
+    const release = int(t3 + 1, nl)
     if (release !== lastRelease) {
       releases.add(release)
       lastRelease = release
