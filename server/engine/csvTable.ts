@@ -242,3 +242,65 @@ export function tableNumbers(t: CsvTable, j: number): { values: Float64Array; ba
   }
   return { values, bad }
 }
+
+/**
+ * Column j dictionary-coded without cutting a string per row: codes[i] indexes `texts`, the
+ * distinct field texts in order of first appearance. Fields are hashed (FNV-1a) and compared
+ * in place in the file's text.
+ */
+export function tableCodes(t: CsvTable, j: number): { codes: Int32Array; texts: string[] } {
+  const { text, start, end, quoted } = t
+  const k = t.header.length
+  const codes = new Int32Array(t.nRows)
+  const texts: string[] = []
+  const firstField: number[] = []
+  let mask = 1023
+  let slots = new Int32Array(mask + 1).fill(-1)
+  const slotOf = (f: number, h: number): number => {
+    const a = start[f]
+    const len = end[f] - a
+    let s = h & mask
+    for (;;) {
+      const c = slots[s]
+      if (c < 0) return s
+      const g = firstField[c]
+      const b = start[g]
+      if (end[g] - b === len && quoted[g] === quoted[f]) {
+        let same = true
+        for (let x = 0; x < len && same; x++) same = text.charCodeAt(a + x) === text.charCodeAt(b + x)
+        if (same) return s
+      }
+      s = (s + 1) & mask
+    }
+  }
+  const hashes: number[] = []
+  const hashOf = (f: number): number => {
+    let h = 0x811c9dc5
+    for (let x = start[f]; x < end[f]; x++) h = Math.imul(h ^ text.charCodeAt(x), 0x01000193)
+    return (h ^ quoted[f]) >>> 0
+  }
+  for (let i = 0; i < t.nRows; i++) {
+    const f = i * k + j
+    const h = hashOf(f)
+    const s = slotOf(f, h)
+    let c = slots[s]
+    if (c < 0) {
+      c = texts.length
+      slots[s] = c
+      firstField.push(f)
+      hashes.push(h)
+      texts.push(fieldText(t, i, j))
+      if (texts.length * 2 > mask) {
+        mask = mask * 2 + 1
+        slots = new Int32Array(mask + 1).fill(-1)
+        for (let d = 0; d < texts.length; d++) {
+          let s2 = hashes[d] & mask
+          while (slots[s2] >= 0) s2 = (s2 + 1) & mask
+          slots[s2] = d
+        }
+      }
+    }
+    codes[i] = c
+  }
+  return { codes, texts }
+}

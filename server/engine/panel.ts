@@ -13,7 +13,7 @@
  * 'empty_panel'.
  */
 import { type Period, type PeriodFrequency, PeriodError, commonFrequency, formatPeriod, parsePeriod, sameScale } from '../../shared/utils/periods'
-import { type CsvTable, fieldText, tableNumbers } from './csvTable'
+import { type CsvTable, fieldText, tableCodes, tableNumbers } from './csvTable'
 import { EngineError, listSome } from './errors'
 import { readNumber } from './readNumber'
 
@@ -93,12 +93,14 @@ function rawFromTable(t: CsvTable, cols: PanelColumns): RawRows {
   const present = t.header
   const roles: [string, string][] = [[cols.unit, 'unit'], [cols.period, 'period'], ...cols.numeric.map((c): [string, string] => [c, 'value'])]
   for (const [name, role] of roles) if (!present.includes(name)) throw unknownColumn(role, name, present)
-  const ju = present.indexOf(cols.unit)
-  const jp = present.indexOf(cols.period)
+  // units and periods dictionary-coded: one string per distinct text, not one per row
+  const units = tableCodes(t, present.indexOf(cols.unit))
+  const unitTexts = units.texts.map((u) => u.trim())
+  const periods = tableCodes(t, present.indexOf(cols.period))
   return {
     n: t.nRows,
-    unitOf: (i) => fieldText(t, i, ju),
-    periodOf: (i) => fieldText(t, i, jp),
+    unitOf: (i) => unitTexts[units.codes[i]],
+    periodOf: (i) => periods.texts[periods.codes[i]],
     cell: (i, c) => fieldText(t, i, present.indexOf(c)),
     lineOf: (i) => t.line[i],
     lineLabel: 'line',

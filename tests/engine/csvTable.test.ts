@@ -8,6 +8,7 @@ import { describe, expect, it } from 'vitest'
 import { recordsFromCsv } from '../../server/engine/csv'
 import { fieldText, tableFromCsv, tableNumbers } from '../../server/engine/csvTable'
 import { estimate } from '../../server/engine/estimate'
+import { buildPanel } from '../../server/engine/panel'
 import type { CsvRecord } from '../../server/engine/panel'
 import { readNumber } from '../../server/engine/readNumber'
 import { fails, loadCase, referenceDir } from './helpers'
@@ -70,6 +71,34 @@ describe('tableFromCsv reads as the record reader does', () => {
     const text = readFileSync(path.join(referenceDir, 'a1_fatalities_twfe_beertax/panel.csv'), 'utf8')
     const spec = { design: 'did', treatmentColumn: 'beertax' }
     expect(estimate(tableFromCsv(text), spec)).toEqual(estimate(loadCase('a1_fatalities_twfe_beertax').panel, spec))
+  })
+})
+
+describe('tableFromCsv units and periods (dictionary codes)', () => {
+  it('builds the same panel as the records: padded and quoted unit names, periods written two ways (invented)', () => {
+    const lines = ['unit,period,y']
+    for (let i = 0; i < 3000; i++) lines.push(`${['a', ' a', '"a"', 'b ', '"b,1"', `u${i % 700}`][i % 6]},${i % 2 ? ' ' : ''}${1990 + (i % 40)},${i}`)
+    // a few thousand distinct texts make the code table grow several times
+    for (let i = 0; i < 5000; i++) lines.push(`v${i},2001,${i}`)
+    const text = `${lines.join('\n')}\n`
+    const cols = { unit: 'unit', period: 'period', numeric: ['y'] }
+    const fromRecords = () => buildPanel(recordsFromCsv(text), cols)
+    const fromTable = () => buildPanel(tableFromCsv(text), cols)
+    // duplicates (a/" a"/"a" share periods) are refused the same way by both readers
+    let recordError = ''
+    try {
+      fromRecords()
+    } catch (e) {
+      recordError = (e as Error).message
+    }
+    expect(recordError).toMatch(/duplicate rows for unit "a"/)
+    fails(fromTable, 'duplicate_row', new RegExp(recordError.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')))
+    const unique = `unit,period,y\n a,1990,1\n"a",1991,2\nb ,1990,3\n"b,1", 1991,4\nb,1991,5\n`
+    const a = buildPanel(recordsFromCsv(unique), cols)
+    const b = buildPanel(tableFromCsv(unique), cols)
+    expect(b.units).toEqual(['a', 'b', 'b,1'])
+    expect({ ...b, line: null }).toEqual({ ...a, line: null })
+    expect(Array.from(b.line)).toEqual(Array.from(a.line))
   })
 })
 
