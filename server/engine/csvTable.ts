@@ -281,6 +281,19 @@ export function tableCodes(t: CsvTable, j: number): { codes: Int32Array; texts: 
   }
   for (let i = 0; i < t.nRows; i++) {
     const f = i * k + j
+    // long files repeat the unit of the row before: compare with it before hashing
+    if (i > 0) {
+      const g = f - k
+      const len = end[f] - start[f]
+      if (end[g] - start[g] === len && quoted[g] === quoted[f]) {
+        let same = true
+        for (let x = 0, a = start[f], b = start[g]; x < len && same; x++) same = text.charCodeAt(a + x) === text.charCodeAt(b + x)
+        if (same) {
+          codes[i] = codes[i - 1]
+          continue
+        }
+      }
+    }
     const h = hashOf(f)
     const s = slotOf(f, h)
     let c = slots[s]
