@@ -9,9 +9,13 @@
  * unit or column, non-numeric cell, singular design, ...) prints one message naming the
  * problem on stderr and exits with status 2, printing nothing on stdout. Any other failure
  * exits with status 1.
+ *
+ * `npm run cli` runs the prebuilt bundle dist/cli/counterpart.mjs (cli/bundle.mjs; `npm run
+ * build:cli`), rebuilt first when a source file changed. The panel is read straight into
+ * typed arrays (tableFromCsv), with no object per row.
  */
 import { readFileSync } from 'node:fs'
-import { EngineError, estimate, isEngineError, recordsFromCsv, scoreDonors } from '../server/engine/index'
+import { EngineError, estimate, isEngineError, scoreDonors, tableFromCsv } from '../server/engine/index'
 
 const USAGE = `usage: counterpart estimate --panel FILE.csv --spec FILE.json
        counterpart score --panel FILE.csv --spec FILE.json [--weights JSON]`
@@ -56,7 +60,7 @@ function main(argv: string[]): number {
   try {
     const { command, options } = parseArgs(argv)
     const spec = readJson(readText(options.spec, '--spec'), `--spec file "${options.spec}"`)
-    const panel = recordsFromCsv(readText(options.panel, '--panel'))
+    const panel = tableFromCsv(readText(options.panel, '--panel'))
     let output: unknown
     if (command === 'estimate') output = estimate(panel, spec)
     else {

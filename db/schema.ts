@@ -161,6 +161,8 @@ export const observations = pgTable('observations', {
  * that has it. The importer keeps it up to date in the same transaction as the release's
  * observations, so the default panel read is one index range scan instead of picking the
  * newest of every release cell by cell. Reads of older releases still go to observations.
+ * Stored with fillfactor 50 (migration 0005_panel_cells_fillfactor, custom SQL): a release
+ * that republishes cells updates them on the same page, without new index entries.
  */
 export const panelCells = pgTable('panel_cells', {
   measureId: integer('measure_id').notNull(),

@@ -28,6 +28,7 @@ npx tsx db/seed/index.ts || fail_setup "seed"
 
 log "building the app"
 npx nuxt build > "$DATA_DIR/build.log" 2>&1 || { tail -40 "$DATA_DIR/build.log"; fail_setup "nuxt build"; }
+node cli/bundle.mjs || fail_setup "command-line bundle"
 
 pids=()
 cleanup() {

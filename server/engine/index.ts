@@ -13,12 +13,14 @@
  *     and a composite rank from the caller's weights (default 1 for each score).
  *   parseSpec(json): Spec            the validated spec with defaults, or EngineError
  *   recordsFromCsv(text): PanelInput long CSV text -> records
+ *   tableFromCsv(text): PanelInput  long CSV text -> typed arrays (no object per row; the CLI's read)
  *   buildPanel(input, columns): Panel  build once and pass the Panel to several calls
  *
  * PanelInput is one of
  *   { records: Record<string, string>[], firstLine? }   parsed CSV rows (cells as text);
  *                                                       spec.unit / spec.period / spec.outcome
  *                                                       name the columns
+ *   { table: CsvTable }                                 from tableFromCsv; columns named as for records
  *   { rows: { unit, period, values: { [column]: number | null } }[] }   typed rows, e.g. as
  *                                                       read from PostgreSQL; spec.outcome and
  *                                                       covariates name keys of `values`
@@ -42,6 +44,7 @@ export function scoreDonors(input: PanelInput, specInput: SpecInput | unknown, w
 export { estimate, parseSpec, panelFor, specColumns } from './estimate'
 export { buildPanel, type Panel, type PanelInput, type TypedRow, type CsvRecord } from './panel'
 export { recordsFromCsv } from './csv'
+export { tableFromCsv } from './csvTable'
 export { EngineError, isEngineError, type EngineErrorCode } from './errors'
 export { donorScoreNames, rankMin, type DonorWeights } from './donorScores'
 export type { EstimateResult, DonorScores, DonorScoreRow, Coefficient, Effect } from '../../shared/engine/result'

@@ -13,7 +13,11 @@
  * 'empty_panel'.
  */
 import { type Period, type PeriodFrequency, PeriodError, commonFrequency, formatPeriod, parsePeriod, sameScale } from '../../shared/utils/periods'
+import { type CsvTable, fieldText, tableCodes, tableNumbers } from './csvTable'
 import { EngineError, listSome } from './errors'
+import { readNumber } from './readNumber'
+
+export { readNumber }
 
 /** A row as the server reads it from the database. */
 export interface TypedRow {
@@ -42,30 +46,16 @@ export interface Panel {
 
 /**
  * What the engine accepts: parsed CSV records (`firstLine` = file line of the first record,
- * default 2 after a header), typed rows, or a panel built before.
+ * default 2 after a header), a CSV table read into typed arrays (csvTable.ts), typed rows,
+ * or a panel built before.
  */
-export type PanelInput = { records: CsvRecord[]; firstLine?: number } | { rows: TypedRow[] } | Panel
+export type PanelInput = { records: CsvRecord[]; firstLine?: number } | { table: CsvTable } | { rows: TypedRow[] } | Panel
 
 export interface PanelColumns {
   unit: string
   period: string
   /** Numeric columns to read. */
   numeric: string[]
-}
-
-const MISSING = new Set(['', 'na', 'n/a', 'nan', 'null', '.'])
-const NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/
-
-/** Reads one cell: a finite number, NaN for missing, or undefined when it is not a number. */
-export function readNumber(cell: unknown): number | undefined {
-  if (cell === null || cell === undefined) return NaN
-  if (typeof cell === 'number') return Number.isFinite(cell) ? cell : Number.isNaN(cell) ? NaN : undefined
-  if (typeof cell !== 'string') return undefined
-  const s = cell.trim()
-  if (MISSING.has(s.toLowerCase())) return NaN
-  if (!NUMBER.test(s)) return undefined
-  const v = Number(s)
-  return Number.isFinite(v) ? v : undefined
 }
 
 function unknownColumn(role: string, name: string, present: string[]): EngineError {
@@ -80,6 +70,8 @@ interface RawRows {
   lineOf(i: number): number
   lineLabel: 'line' | 'row'
   columnNames: string[]
+  /** A whole column as numbers at once (bad = 1 where a cell is not a number), when the input can. */
+  numbers?(column: string): { values: Float64Array; bad: Uint8Array | null }
 }
 
 function rawFromRecords(records: CsvRecord[], firstLine: number, cols: PanelColumns): RawRows {
@@ -94,6 +86,26 @@ function rawFromRecords(records: CsvRecord[], firstLine: number, cols: PanelColu
     lineOf: (i) => firstLine + i,
     lineLabel: 'line',
     columnNames: present,
+  }
+}
+
+function rawFromTable(t: CsvTable, cols: PanelColumns): RawRows {
+  const present = t.header
+  const roles: [string, string][] = [[cols.unit, 'unit'], [cols.period, 'period'], ...cols.numeric.map((c): [string, string] => [c, 'value'])]
+  for (const [name, role] of roles) if (!present.includes(name)) throw unknownColumn(role, name, present)
+  // units and periods dictionary-coded: one string per distinct text, not one per row
+  const units = tableCodes(t, present.indexOf(cols.unit))
+  const unitTexts = units.texts.map((u) => u.trim())
+  const periods = tableCodes(t, present.indexOf(cols.period))
+  return {
+    n: t.nRows,
+    unitOf: (i) => unitTexts[units.codes[i]],
+    periodOf: (i) => periods.texts[periods.codes[i]],
+    cell: (i, c) => fieldText(t, i, present.indexOf(c)),
+    lineOf: (i) => t.line[i],
+    lineLabel: 'line',
+    columnNames: present,
+    numbers: (c) => tableNumbers(t, present.indexOf(c)),
   }
 }
 
@@ -203,6 +215,17 @@ function buildFromRaw(raw: RawRows, cols: PanelColumns): Panel {
   const columns: Record<string, Float64Array> = {}
   for (const c of new Set(cols.numeric)) {
     const values = new Float64Array(n)
+    const whole = raw.numbers?.(c)
+    if (whole) {
+      const { values: read, bad } = whole
+      for (let r = 0; r < n; r++) {
+        const i = order[r]
+        if (bad && bad[i]) throw new EngineError('non_numeric', `${raw.lineLabel} ${raw.lineOf(i)}, column "${c}": ${JSON.stringify(raw.cell(i, c))} is not a number`)
+        values[r] = read[i]
+      }
+      columns[c] = values
+      continue
+    }
     for (let r = 0; r < n; r++) {
       const i = order[r]
       const cell = raw.cell(i, c)
@@ -234,8 +257,9 @@ export function buildPanel(input: PanelInput, cols: PanelColumns): Panel {
     if (!Array.isArray(input.records)) throw new EngineError('invalid_input', 'panel records must be an array')
     return buildFromRaw(rawFromRecords(input.records, input.firstLine ?? 2, cols), cols)
   }
+  if ('table' in input && (input.table as CsvTable | undefined)?.kind === 'csv_table') return buildFromRaw(rawFromTable(input.table, cols), cols)
   if ('rows' in input && Array.isArray(input.rows)) return buildFromRaw(rawFromTyped(input.rows, cols), cols)
-  throw new EngineError('invalid_input', 'panel input must be {records}, {rows} or a built panel')
+  throw new EngineError('invalid_input', 'panel input must be {records}, {table}, {rows} or a built panel')
 }
 
 /** Index of a unit id, or an 'unknown_unit' error naming every unknown id of `ids`. */

@@ -10,6 +10,8 @@ import { as, type Client } from '../support/http'
 import { closePool, sql, testPool } from '../support/db'
 import { dataFingerprint, runTag, uploadRelease, waitForJob } from '../support/uploads'
 import { importRelease } from '../../server/services/uploads/importRelease'
+import { copyObservations } from '../../server/services/uploads/copyObservations'
+import type { Observations } from '../../server/services/uploads/validate'
 
 let admin: Client
 let analyst: Client
@@ -208,6 +210,47 @@ describe('failed imports', () => {
     expect(await sql('SELECT 1 FROM panel_cells WHERE release_id = $1', [release.id])).toEqual([])
     const reads = await panel(reviewer, `measure=${filings}&units=${A}&from=2020-01&to=2020-01`)
     expect(reads.rows[0]!.value).toBe((1 + A.length) * 10)
+  })
+
+  it('a COPY that fails part-way leaves no rows, and the connection serves the next import', async () => {
+    const [release] = await sql(
+      `INSERT INTO source_releases (source_id, label, file_name, checksum, file, size_bytes, mapping, status)
+       VALUES ($1, 'copy', 'copy.csv', $2, '', 0, $3, 'importing') RETURNING id`,
+      [sourceId, `c${tag}`, JSON.stringify(mapping)])
+    const [measure] = await sql('SELECT id FROM measures WHERE key = $1', [filings])
+    const places = await sql('SELECT id FROM jurisdictions WHERE code = ANY($1) ORDER BY code', [[A, B, C]])
+    // 3 places x 12 months, sent 5 rows per chunk: the failure comes with the third chunk
+    const obs: Observations = {
+      length: 36,
+      jurisdictionIds: Int32Array.from({ length: 36 }, (_, i) => places[i % 3].id),
+      measureIndex: new Uint16Array(36),
+      measureKeys: [filings],
+      periods: Array.from({ length: 36 }, (_, i) => `2031-${String(Math.floor(i / 3) + 1).padStart(2, '0')}`),
+      values: Float64Array.from({ length: 36 }, (_, i) => i + 0.25),
+    }
+    const client = await testPool().connect()
+    try {
+      await client.query('BEGIN')
+      const crash = (done: number) => {
+        if (done >= 15) throw new Error('disk full')
+      }
+      await expect(copyObservations(client, release.id, obs, [measure.id], crash, 5)).rejects.toThrow('disk full')
+      await client.query('ROLLBACK')
+      expect(await sql('SELECT 1 FROM observations WHERE release_id = $1', [release.id])).toEqual([])
+      expect(await sql('SELECT 1 FROM panel_cells WHERE release_id = $1', [release.id])).toEqual([])
+
+      // the same connection, a whole COPY rolled back: still nothing
+      await client.query('BEGIN')
+      await copyObservations(client, release.id, obs, [measure.id], undefined, 5)
+      expect((await client.query('SELECT count(*)::int AS n FROM observations WHERE release_id = $1', [release.id])).rows[0].n).toBe(36)
+      await client.query('ROLLBACK')
+      expect(await sql('SELECT 1 FROM observations WHERE release_id = $1', [release.id])).toEqual([])
+      expect(await sql('SELECT 1 FROM panel_cells WHERE release_id = $1', [release.id])).toEqual([])
+    }
+    finally {
+      client.release()
+    }
+    await sql(`UPDATE source_releases SET status = 'failed' WHERE id = $1`, [release.id])
   })
 
   it('a failed release does not block uploading the same file again', async () => {

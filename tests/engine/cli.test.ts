@@ -1,13 +1,14 @@
-// The command line (cli/counterpart.ts) run as a separate process: result JSON on stdout and
+// The command line (cli/counterpart.ts) run as a separate process from its prebuilt bundle
+// (cli/bundle.mjs, built here when stale), as `npm run cli` runs it: result JSON on stdout and
 // status 0 when all is well; status 2, a message on stderr and nothing on stdout for bad input.
 import { spawn } from 'node:child_process'
 import { mkdtempSync, writeFileSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import path from 'node:path'
-import { describe, expect, it } from 'vitest'
+import { beforeAll, describe, expect, it } from 'vitest'
+import { bundlePath, ensureCliBundle } from '../../cli/bundle.mjs'
 import { referenceDir, repoRoot } from './helpers'
 
-const tsx = path.join(repoRoot, 'node_modules/tsx/dist/cli.mjs')
 const dir = mkdtempSync(path.join(tmpdir(), 'counterpart-cli-'))
 const fatalities = path.join(referenceDir, 'a1_fatalities_twfe_beertax/panel.csv')
 const synthetic = path.join(referenceDir, 'a4_synthetic_donors/panel.csv')
@@ -20,7 +21,7 @@ function file(name: string, content: string): string {
 
 function run(...args: string[]): Promise<{ status: number | null; stdout: string; stderr: string }> {
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [tsx, path.join(repoRoot, 'cli/counterpart.ts'), ...args], { cwd: repoRoot })
+    const child = spawn(process.execPath, [bundlePath, ...args], { cwd: repoRoot })
     let stdout = ''
     let stderr = ''
     child.stdout.on('data', (d) => (stdout += d))
@@ -29,6 +30,8 @@ function run(...args: string[]): Promise<{ status: number | null; stdout: string
     child.on('close', (status) => resolve({ status, stdout, stderr }))
   })
 }
+
+beforeAll(() => ensureCliBundle(), 120_000)
 
 describe('counterpart CLI', { timeout: 60_000 }, () => {
   it.concurrent('estimate prints the result JSON', async () => {

@@ -14,11 +14,10 @@ import { MAX_PROBLEMS } from './limits'
 import { runUploadCheck } from './runUploadCheck'
 import { UploadError } from './uploadError'
 import { problemMessage, type MeasureInfo, type Observations, type Registry } from './validate'
+import { copyObservations } from './copyObservations'
 
 export type Queryable = Pick<pg.PoolClient, 'query'>
 export type Progress = (fraction: number, message: string) => Promise<void> | void
-
-export const BATCH_ROWS = 50_000
 
 export async function loadRegistry(db: Queryable): Promise<Registry> {
   const j = await db.query<{ id: number, code: string }>('SELECT id, code FROM jurisdictions')
@@ -42,61 +41,6 @@ export class ImportFailure extends Error {
     super(message)
     this.name = 'ImportFailure'
   }
-}
-
-/** Order of the panel index (measure, jurisdiction, period): index pages fill in sequence. */
-function sortedOrder(obs: Observations, measureIds: number[]): Uint32Array {
-  const order = new Uint32Array(obs.length)
-  for (let i = 0; i < obs.length; i++) order[i] = i
-  const m = obs.measureIndex
-  const j = obs.jurisdictionIds
-  const p = obs.periods
-  order.sort((a, b) => (measureIds[m[a]!]! - measureIds[m[b]!]!) || (j[a]! - j[b]!) || (p[a]! < p[b]! ? -1 : p[a]! > p[b]! ? 1 : 0))
-  return order
-}
-
-/**
- * Inserts observations for one release inside the caller's transaction.
- * Periods are canonical texts (digits, "-", "Q", "W"), so the array literal needs no quoting.
- */
-export async function insertObservations(client: Queryable, releaseId: number, obs: Observations, measureIds: number[], onBatch?: (done: number) => Promise<void> | void): Promise<void> {
-  const order = sortedOrder(obs, measureIds)
-  for (let start = 0; start < obs.length; start += BATCH_ROWS) {
-    const end = Math.min(obs.length, start + BATCH_ROWS)
-    const ms: number[] = new Array(end - start)
-    const js: number[] = new Array(end - start)
-    const ps: string[] = new Array(end - start)
-    const vs: string[] = new Array(end - start)
-    for (let k = start; k < end; k++) {
-      const i = order[k]!
-      ms[k - start] = measureIds[obs.measureIndex[i]!]!
-      js[k - start] = obs.jurisdictionIds[i]!
-      ps[k - start] = obs.periods[i]!
-      vs[k - start] = String(obs.values[i]!)
-    }
-    await client.query(
-      `INSERT INTO observations (release_id, measure_id, jurisdiction_id, period, value)
-       SELECT $1, m, j, p, v FROM unnest($2::int[], $3::int[], $4::text[], $5::float8[]) AS t(m, j, p, v)`,
-      [releaseId, `{${ms.join(',')}}`, `{${js.join(',')}}`, `{${ps.join(',')}}`, `{${vs.join(',')}}`],
-    )
-    await onBatch?.(end)
-  }
-  await updatePanelCells(client, releaseId)
-}
-
-/**
- * Brings the current panel (panel_cells) up to date with one release's observations, in the
- * same transaction: a cell takes the release's value unless a newer release already has it.
- */
-async function updatePanelCells(client: Queryable, releaseId: number): Promise<void> {
-  await client.query(
-    `INSERT INTO panel_cells (measure_id, jurisdiction_id, period, value, release_id)
-     SELECT measure_id, jurisdiction_id, period, value, release_id FROM observations WHERE release_id = $1
-     ON CONFLICT (measure_id, jurisdiction_id, period)
-     DO UPDATE SET value = EXCLUDED.value, release_id = EXCLUDED.release_id
-     WHERE panel_cells.release_id < EXCLUDED.release_id`,
-    [releaseId],
-  )
 }
 
 /**
@@ -166,7 +110,7 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
     const measureIds = checked.observations.measureKeys.map(k => registry.measures.get(k)!.id)
     await lockReferences(client, releaseId, measureIds, checked.observations)
     const total = checked.observations.length
-    await insertObservations(client, releaseId, checked.observations, measureIds, done =>
+    await copyObservations(client, releaseId, checked.observations, measureIds, done =>
       onProgress(0.2 + 0.75 * (done / total), `Imported ${done.toLocaleString('en')} of ${total.toLocaleString('en')} values`))
 
     await client.query(
