@@ -1,3 +1,4 @@
+import { randomBytes } from 'node:crypto'
 /**
  * Backup and restore (scripts/backup.sh, scripts/restore.sh): an approved study is backed up
  * with pg_dump, restored into a fresh database, and a second server started on the restored
@@ -127,7 +128,7 @@ describe('restore into a fresh database', () => {
         DATABASE_URL: TEST_DATABASE_URL.replace(/\/[^/]+$/, `/${restored}`),
         HOST: '127.0.0.1',
         PORT: String(port),
-        NUXT_AUTH_SECRET: 'counterpart-test-secret',
+        NUXT_AUTH_SECRET: randomBytes(48).toString('base64'), // the built server refuses a short or missing secret
         AUTH_ORIGIN: `${secondUrl}/api/auth`,
         PUBLIC_ORIGIN: secondUrl,
       },

@@ -12,6 +12,7 @@ import { isEngineError, type EstimateResult } from '~~/server/engine'
 import { alternativePools, isRobustnessCancelled, leaveOneOut, placeboInSpace, placeboInTime, type RobustnessHooks } from '~~/server/engine/robustness'
 import type { NamedPool, RobustnessKind, RobustnessResult } from '#shared/engine/robustness'
 import type { JobContext } from '~~/server/utils/jobs'
+import { JobCancelled, isJobCancelled } from '~~/server/utils/jobCancelled'
 import { fingerprintRows, loadRunRows, type StudyRow } from '../studies/runData'
 import { engineRows, readStudyRows } from '../studies/rows'
 import { studySource } from '../studies/candidates'
@@ -28,7 +29,6 @@ interface StoredSpec {
   pools?: NamedPool[]
 }
 
-const isJobCancelled = (e: unknown) => e instanceof Error && e.name === 'JobCancelled'
 
 /** The rows the check reads and what it computes, by kind. */
 async function compute(spec: StoredSpec, hooks: RobustnessHooks): Promise<{ rows: StudyRow[], result: RobustnessResult }> {
@@ -83,15 +83,17 @@ export async function runRobustnessJob(robustnessId: number, job: JobContext): P
   try {
     const { rows, result } = await compute(spec, hooks)
     const fingerprint = fingerprintRows(rows, row.spec)
-    await db.update(robustnessRuns).set({ status: 'done', progress: 1, message: 'Done', result: result as unknown as Record<string, unknown>, fingerprint, updatedAt: new Date() })
-      .where(and(eq(robustnessRuns.id, robustnessId), eq(robustnessRuns.status, 'running')))
+    const stored = await db.update(robustnessRuns).set({ status: 'done', progress: 1, message: 'Done', result: result as unknown as Record<string, unknown>, fingerprint, updatedAt: new Date() })
+      .where(and(eq(robustnessRuns.id, robustnessId), eq(robustnessRuns.status, 'running'))).returning({ id: robustnessRuns.id })
+    // cancelled after the last unit but before the result was kept: the cancel wins, nothing is stored
+    if (!stored.length) throw new JobCancelled('The robustness check was cancelled; its result was not kept.')
     return { robustnessId, fingerprint }
   }
   catch (e) {
     if (isRobustnessCancelled(e) || isJobCancelled(e)) {
       await db.update(robustnessRuns).set({ status: 'cancelled', message: 'Cancelled', updatedAt: new Date() })
         .where(and(eq(robustnessRuns.id, robustnessId), inArray(robustnessRuns.status, ['running', 'cancelled'])))
-      throw isJobCancelled(e) ? e : new Error('The robustness check was cancelled.')
+      throw isJobCancelled(e) ? e : new JobCancelled('The robustness check was cancelled.')
     }
     const message = isEngineError(e) || (e as { statusCode?: number }).statusCode ? (e as Error).message : `The check stopped on an error: ${(e as Error).message}`
     await db.update(robustnessRuns).set({ status: 'failed', message, updatedAt: new Date() })

@@ -120,8 +120,12 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
     await client.query(
       `INSERT INTO audit_log (user_id, action, entity, entity_id, after) VALUES ($1, 'import', 'source_release', $2, $3)`,
       [release.created_by, releaseId, JSON.stringify({ sourceId: release.source_id, ...result })])
+    // the last point where a cancel can still undo the import: after COMMIT the data is in, so a
+    // cancel that arrives later is not honoured (the job ends done and says so)
+    await onProgress(0.97, 'Finishing the import')
     await client.query('COMMIT')
-    await onProgress(1, `Imported ${total.toLocaleString('en')} values`)
+    began = false
+    await Promise.resolve(onProgress(1, `Imported ${total.toLocaleString('en')} values`)).catch(() => {})
     return result
   }
   catch (e) {
