@@ -63,6 +63,21 @@ async function importUnderWay(file: Awaited<ReturnType<typeof bigImport>>) {
   return { jobId: res.body.jobId as string, releaseId: res.body.releaseId as number, running }
 }
 
+/**
+ * Holds imports at their panel_cells upsert (a SHARE lock conflicts with the insert's ROW
+ * EXCLUSIVE lock) until the returned function is called, so a test's cancel or kill surely lands
+ * before the import commits, however fast the import is.
+ */
+async function holdPanelCells(): Promise<() => Promise<void>> {
+  const holder = await testPool().connect()
+  await holder.query('BEGIN')
+  await holder.query('LOCK TABLE panel_cells IN SHARE MODE')
+  return async () => {
+    await holder.query('COMMIT')
+    holder.release()
+  }
+}
+
 async function expectNothingKept(releaseId: number, problem: RegExp) {
   const [release] = await sql('SELECT status, errors FROM source_releases WHERE id = $1', [releaseId])
   expect(release.status).toBe('failed')
@@ -147,11 +162,7 @@ describe('cancel', () => {
 describe('cancel an import', () => {
   it('rolls the import back: cancelled, no rows, release failed, and the same file can be uploaded again', async () => {
     const file = await bigImport()
-    // hold the import at its panel_cells upsert (a SHARE lock conflicts with the insert's ROW
-    // EXCLUSIVE), so the cancel surely arrives before the import commits, however fast it is
-    const holder = await testPool().connect()
-    await holder.query('BEGIN')
-    await holder.query('LOCK TABLE panel_cells IN SHARE MODE')
+    const release = await holdPanelCells()
     let first: Awaited<ReturnType<typeof importUnderWay>>
     try {
       first = await importUnderWay(file)
@@ -159,8 +170,7 @@ describe('cancel an import', () => {
       await new Promise(r => setTimeout(r, 2_500)) // the runner notices the request (heartbeat 2 s)
     }
     finally {
-      await holder.query('COMMIT')
-      holder.release()
+      await release()
     }
     const ended = await waitForRow(first.jobId, finished, 15_000)
     expect(ended.state).toBe('cancelled')
@@ -201,8 +211,15 @@ describe('a worker killed mid-job', () => {
 
   it('an import killed mid-way leaves no rows, its release is failed, and the same file goes in again at once', async () => {
     const file = await bigImport()
-    const first = await importUnderWay(file)
-    process.kill(runnerPid(first.running.runner), 'SIGKILL')
+    const release = await holdPanelCells()
+    let first: Awaited<ReturnType<typeof importUnderWay>>
+    try {
+      first = await importUnderWay(file)
+      process.kill(runnerPid(first.running.runner), 'SIGKILL')
+    }
+    finally {
+      await release()
+    }
     expect(await waitForRow(first.jobId, finished, 30_000)).toMatchObject({ state: 'failed' })
     await expectNothingKept(first.releaseId, /stopped before it finished/)
 

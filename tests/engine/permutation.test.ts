@@ -105,7 +105,7 @@ describe('permutation inference: invariances (fast-check)', () => {
   const base = estimate(c3.panel, { design: 'did', treated: ['NORWAY'], start: 1973 })
   it('does not depend on row order', () => {
     fc.assert(
-      fc.property(fc.integer({ min: 0, max: 2 ** 31 }), (seed) => {
+      fc.property(fc.integer({ min: 1, max: 2 ** 31 }), (seed) => {
         const rng = seededRandom(seed)
         const shuffled = [...records]
         for (let i = shuffled.length - 1; i > 0; i--) {
