@@ -41,7 +41,7 @@ export function threatEvidence(x: ThreatInput): ThreatEvidence[] {
     maturationEvidence(s),
     anticipationEvidence(x.leads),
     instrumentationEvidence(s, x.revisions, x.treatedUnits),
-    regressionToMeanEvidence(s),
+    regressionToMeanEvidence(s, 2, x.candidates),
     selectionEvidence({ nPre: s.nPre, treated: s.treated, candidates: x.candidates }),
     diffusionEvidence({ periods: s.periods.length, nPre: s.nPre, treatedEffect: actual, neighbours: x.neighbours, distant: x.distant }),
   ]
