@@ -21,7 +21,9 @@
  *   (Produc 1984: 9 dates, Gasoline 1975: 10). "Weakens" is the right reading of a null effect
  *   (about 75% when exchangeable).
  * - maturation: "weakens" (a 5% t test of the gap's pre-period slope, independent errors);
- *   real units also have genuine differential trends, so this share is not all false alarm.
+ *   real units also have genuine differential trends, so this share is not all false alarm: the
+ *   row gives the correlation across null adopters between the gap's pre-period slope and the
+ *   null adopter's difference in differences (a drift the estimate counts as effect).
  * - testing/anticipation: "weakens" (the event study's joint lead test by placebo units, 5%).
  * - instrumentation: "weakens" (a 1% test of a level break in the pool mean, Newey-West); the
  *   pool mean barely changes from one fake adopter to the next, so it is also swept over every
@@ -46,7 +48,7 @@ import { fileURLToPath } from 'node:url'
 import { estimate } from '../server/engine/index'
 import { placeboInTime } from '../server/engine/robustness/placeboTime'
 import { threatEvidence } from '../server/engine/threats'
-import { meanSeries } from '../server/engine/threats/basics'
+import { did2x2, lineOf, meanSeries } from '../server/engine/threats/basics'
 import { comparisonBreak } from '../server/engine/threats/instrumentation'
 import type { TypedRow } from '../server/engine/panel'
 import type { ThreatEvidence, Verdict } from '../shared/engine/threats'
@@ -122,6 +124,20 @@ function outlierRate(n: number): number {
   return hits / (n + 1)
 }
 
+function correlation(a: number[], b: number[]): number {
+  const ma = a.reduce((s, v) => s + v, 0) / a.length
+  const mb = b.reduce((s, v) => s + v, 0) / b.length
+  let sab = 0
+  let saa = 0
+  let sbb = 0
+  for (let i = 0; i < a.length; i++) {
+    sab += (a[i]! - ma) * (b[i]! - mb)
+    saa += (a[i]! - ma) ** 2
+    sbb += (b[i]! - mb) ** 2
+  }
+  return sab / Math.sqrt(saa * sbb)
+}
+
 const share = (k: number, n: number) => `${k}/${n} (${Math.round((100 * k) / n)}%)`
 const pc = (x: number) => `${Math.round(100 * x)}%`
 
@@ -136,8 +152,17 @@ async function panelLines(p: RealPanel, start: number): Promise<Line[]> {
   let ptimeUnusual = 0
   let ptimeN = 0
   let ptimeFakes = 0
+  const slopes: number[] = []
+  const nullEffects: number[] = []
   for (const u of p.units) {
     const others = p.units.filter(x => x !== u)
+    const pool = meanSeries(others.map(x => p.series.get(x)!), p.periods.length)
+    const gap = Array.from(p.series.get(u)!, (y, t) => y - pool[t]!)
+    const line = lineOf(gap, 0, nPre)
+    if (line) {
+      slopes.push(line.slope)
+      nullEffects.push(did2x2(p.series.get(u)!, pool, 0, nPre, p.periods.length))
+    }
     const es = estimate({ rows: p.rows }, { design: 'event_study', treated: [u], start, comparison: others })
     const leads = { points: es.eventStudy ?? null, placeboP: es.preTrend?.leadPermutation?.p ?? null, waldP: es.preTrend?.wald?.p ?? null, waldReliable: es.inference?.method === 'analytic' && (es.nClusters ?? 0) >= 30 }
     for (const e of nullAdopterEvidence(p, u, start, leads)) {
@@ -163,7 +188,7 @@ async function panelLines(p: RealPanel, start: number): Promise<Line[]> {
   const nf = fakeDates[0] ?? 0
   const lines: Line[] = [
     { panel: label, rule: 'history (fake start dates)', error: `supports ${share(v('history').supports, n)}`, verdicts: words('history'), builtAs: nf >= 5 ? `placebo p <= 0.10, ${nf} dates: ${pc(Math.floor((nf + 1) / 10 + 1e-9) / (nf + 1))} supports, ~75% weakens` : `${nf} fake dates: cannot tell` },
-    { panel: label, rule: 'maturation (gap slope)', error: `weakens ${share(v('maturation').weakens, n)}`, verdicts: words('maturation'), builtAs: nPre >= 6 ? '5% t test, independent errors' : 'under 6 pre-periods: cannot tell' },
+    { panel: label, rule: 'maturation (gap slope)', error: `weakens ${share(v('maturation').weakens, n)}`, verdicts: `${words('maturation')}; corr(pre slope, null effect) ${slopes.length > 2 ? correlation(slopes, nullEffects).toFixed(2) : 'n/a'}`, builtAs: nPre >= 6 ? '5% t test, independent errors' : 'under 6 pre-periods: cannot tell' },
     { panel: label, rule: 'testing/anticipation (leads)', error: `weakens ${share(v('testing').weakens, n)}`, verdicts: words('testing'), builtAs: '5% joint lead test by placebo units' },
     { panel: label, rule: 'instrumentation (pool break)', error: `weakens ${share(v('instrumentation').weakens, n)}`, verdicts: words('instrumentation'), builtAs: '1% Newey-West test; one pool mean for all' },
     { panel: label, rule: 'regression to the mean (spike)', error: `weakens ${share(v('regression_to_mean').weakens, n)}`, verdicts: words('regression_to_mean'), builtAs: nPre - 2 >= 6 ? `5% t bound and top 5% of ${n - 1}: at most ${pc(upperRate(n - 1))}` : 'under 6 earlier periods: cannot tell' },
