@@ -2,7 +2,8 @@
  * Computed evidence on the threats to validity over HTTP (GET /api/studies/:id/evidence) on the
  * demo scenario (db/seed/demoScenario.ts): refusals (no session, a bad or unknown id), the seven
  * threats each with a verdict, figure, explanation and rule, the history figure checked against
- * the Trends step's own series (the same two-by-two difference in differences written out here),
+ * the Trends step's own series (the same two-by-two difference in differences over 3 periods on each
+ * side of the start, written out here),
  * the neighbours found from the registry's neighbour links, the workbook's sheet, and revisions
  * between two releases of a small invented study (one treated value raised by 10% in a second
  * release: known by construction).
@@ -73,12 +74,16 @@ describe('threat evidence', () => {
     expect(res.body.note).toMatch(/starting point/)
     expect(res.body.periods).toMatchObject({ first: '2012-01', start: ADOPTED, last: '2019-12', pre: 66, post: 30 })
 
-    // history: the real effect is the two-by-two gap change of the Trends step's own series
+    // history: the real effect is the two-by-two gap change of the Trends step's own series over the
+    // 3 periods from the start against the 3 before it (every date, real or fake, is judged alike)
     const trends = (await reviewer.get(`/api/studies/${id}/trends`)).body
-    const pre = (xs: (number | null)[]) => mean(xs.filter((_, t) => trends.prePeriods[t]))
-    const post = (xs: (number | null)[]) => mean(xs.filter((_, t) => !trends.prePeriods[t]))
-    const actual = post(trends.treated.levels) - pre(trends.treated.levels) - (post(trends.pool.levels) - pre(trends.pool.levels))
+    const nPre = (trends.prePeriods as boolean[]).filter(Boolean).length
+    const before = (xs: (number | null)[]) => mean(xs.slice(nPre - 3, nPre))
+    const after = (xs: (number | null)[]) => mean(xs.slice(nPre, nPre + 3))
+    const actual = after(trends.treated.levels) - before(trends.treated.levels) - (after(trends.pool.levels) - before(trends.pool.levels))
     const history = threats[0]!
+    expect(nPre).toBe(66)
+    expect(history.figures.window).toBe(3)
     expect(history.figures.actualEffect).toBeCloseTo(actual, 10)
     // fake dates 3..63 of 66 pre-periods: 61 of them
     expect(history.figures.fakeDates).toBe(61)

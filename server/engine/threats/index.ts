@@ -10,7 +10,8 @@
 import type { ThreatEvidence } from '../../../shared/engine/threats'
 import { type LeadInput, anticipationEvidence } from './anticipation'
 import { diffusionEvidence } from './diffusion'
-import { historyEvidence, placeboDates } from './history'
+import { did2x2 } from './basics'
+import { historyEvidence } from './history'
 import { type RevisedCell, instrumentationEvidence } from './instrumentation'
 import { maturationEvidence } from './maturation'
 import { regressionToMeanEvidence } from './regressionToMean'
@@ -33,13 +34,14 @@ export interface ThreatInput {
 export function threatEvidence(x: ThreatInput): ThreatEvidence[] {
   checkStudySeries(x.series, 'threatEvidence')
   const s = x.series
-  const actual = placeboDates(s).actual
+  // the treated unit's effect over the whole pre- and post-period (diffusion compares its sign)
+  const actual = did2x2(s.treated, s.pool, 0, s.nPre, s.periods.length)
   return [
     historyEvidence(s),
     maturationEvidence(s),
     anticipationEvidence(x.leads),
     instrumentationEvidence(s, x.revisions, x.treatedUnits),
-    regressionToMeanEvidence(s),
+    regressionToMeanEvidence(s, 2, x.candidates),
     selectionEvidence({ nPre: s.nPre, treated: s.treated, candidates: x.candidates }),
     diffusionEvidence({ periods: s.periods.length, nPre: s.nPre, treatedEffect: actual, neighbours: x.neighbours, distant: x.distant }),
   ]
