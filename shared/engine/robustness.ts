@@ -26,7 +26,12 @@ export interface FakeStart {
 
 export interface PlaceboTimeResult {
   kind: 'placebo_time'
+  /** The actual effect as compared with the fakes (over the matched window when `window` is set). */
   actual: { start: string; estimate: number }
+  /** The run's own effect (its whole window). */
+  runEstimate?: number
+  /** Periods either side of every start (actual and fakes) when windows are matched, else null. */
+  window?: number | null
   /** Fake starts keep at least this many pre-period periods on each side. */
   minDistance: number
   prePeriods: number

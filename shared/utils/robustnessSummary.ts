@@ -23,7 +23,7 @@ export function robustnessWords(r: RobustnessResult): RobustnessWords {
     case 'placebo_time': {
       if (r.share === null) return { finding: 'No fake start date could be estimated.', caution: 'The placebo in time gives no evidence either way.' }
       return {
-        finding: `${plural(r.n, 'fake start date')} in the pre-period (at least ${plural(r.minDistance, 'period')} from either end): ${r.atLeastAsLarge} of them (${pct(r.share)}) give an effect at least as large as the actual ${num(r.actual.estimate)}.`,
+        finding: `${plural(r.n, 'fake start date')} in the pre-period (at least ${plural(r.minDistance, 'period')} from either end): ${r.atLeastAsLarge} of them (${pct(r.share)}) give an effect at least as large as the actual ${num(r.actual.estimate)}${r.window ? ` (every effect, the actual one included, over ${plural(r.window, 'period')} either side of its start)` : ''}.`,
         caution: r.share > STANDS_OUT_SHARE ? 'Fake start dates before the policy give effects as large as the actual one: the estimate may reflect drift or shocks the design does not capture.' : null,
       }
     }

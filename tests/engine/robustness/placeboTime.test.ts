@@ -6,25 +6,39 @@ import { placeboInTime, isRobustnessCancelled } from '../../../server/engine/rob
 import { FULL, rows, spec } from './panel'
 
 describe('placebo in time', () => {
-  it('re-estimates at every fake start at least 3 periods from the pre-period ends', async () => {
+  it('re-estimates at every fake start at least 3 periods from the pre-period ends, on matched windows', async () => {
     const r = await placeboInTime(rows, spec)
     // pre-period 2001-2007 (7 periods): fake starts 2004 and 2005 only
     expect(r.prePeriods).toBe(7)
     expect(r.fakes.map(f => f.start)).toEqual(['2004', '2005'])
-    // 2004: A post (10+13+10+10)/4 = 10.75 minus pre 10 = 0.75; donors flat in the pre-period
-    expect(r.fakes[0]!.estimate).toBeCloseTo(0.75, 10)
-    // 2005: A post (13+10+10)/3 = 11 minus pre 10 = 1
+    expect(r.window).toBe(3)
+    // every effect over 3 periods either side of its start (donors flat in the pre-period):
+    // 2004: A 2004-2006 (10+13+10)/3 = 11 minus 2001-2003 10 = 1
+    expect(r.fakes[0]!.estimate).toBeCloseTo(1, 10)
+    // 2005: A 2005-2007 = 11 minus 2002-2004 = 10: 1
     expect(r.fakes[1]!.estimate).toBeCloseTo(1, 10)
-    expect(r.actual.estimate).toBeCloseTo(FULL, 10)
+    // actual 2008: A 2008-2010 = 15 minus 2005-2007 = 11: 4; donors move 0, 2, 0: 4 - 2/3 = 10/3
+    expect(r.actual.estimate).toBeCloseTo(10 / 3, 10)
+    expect(r.runEstimate).toBeCloseTo(FULL, 10)
     expect(r.actual.start).toBe('2008')
     expect(r.n).toBe(2)
     expect(r.atLeastAsLarge).toBe(0)
     expect(r.share).toBe(0)
   })
 
+  it('matched windows of 2: every fake and the actual over 2 periods either side', async () => {
+    const r = await placeboInTime(rows, spec, { minDistance: 2 })
+    expect(r.fakes.map(f => f.start)).toEqual(['2003', '2004', '2005', '2006'])
+    // 2003: 10 - 10 = 0; 2004: (10+13)/2 - 10 = 1.5; 2005: (13+10)/2 - 10 = 1.5; 2006: 10 - 11.5 = -1.5
+    ;[0, 1.5, 1.5, -1.5].forEach((v, i) => expect(r.fakes[i]!.estimate).toBeCloseTo(v, 10))
+    // actual: A 15 - 10 = 5; donors 0, 2, 0: 5 - 2/3 = 13/3
+    expect(r.actual.estimate).toBeCloseTo(13 / 3, 10)
+    expect(r.share).toBe(0)
+  })
+
   it('counts the fakes at least as large as the actual effect', async () => {
     // minDistance 2: starts 2003..2006 with fakes 0.6, 0.75, 1 and (10 - 10.6) = -0.6
-    const r = await placeboInTime(rows, spec, { minDistance: 2, actual: 0.7 })
+    const r = await placeboInTime(rows, spec, { minDistance: 2, actual: 0.7, matchWindows: false })
     expect(r.fakes.map(f => f.start)).toEqual(['2003', '2004', '2005', '2006'])
     const est = r.fakes.map(f => f.estimate!)
     ;[0.6, 0.75, 1, -0.6].forEach((v, i) => expect(est[i]).toBeCloseTo(v, 10))
