@@ -127,7 +127,7 @@ describe('restore into a fresh database', () => {
         DATABASE_URL: TEST_DATABASE_URL.replace(/\/[^/]+$/, `/${restored}`),
         HOST: '127.0.0.1',
         PORT: String(port),
-        NUXT_AUTH_SECRET: 'counterpart-test-secret',
+        NUXT_AUTH_SECRET: 'counterpart-test-secret-of-32-characters-or-more',
         AUTH_ORIGIN: `${secondUrl}/api/auth`,
         PUBLIC_ORIGIN: secondUrl,
       },
