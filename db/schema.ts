@@ -228,7 +228,7 @@ export const studyRuns = pgTable('study_runs', {
   spec: jsonb('spec').$type<Spec>().notNull(),
   fingerprint: text('fingerprint').notNull(),
   releaseIds: jsonb('release_ids').$type<number[]>().notNull().default([]),
-  /** What the rows were read from (measures, units, period range, transform) and the pool as decided then. */
+  /** What the rows were read from (measures, units, period range, transform) and the pool as decided then; {} on runs stored before migration 0001. */
   data: jsonb('data').$type<RunData>().notNull().default(sql`'{}'::jsonb`),
   result: jsonb('result').$type<EstimateResult>().notNull(),
   createdBy: integer('created_by').references(() => users.id),
