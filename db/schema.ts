@@ -20,6 +20,9 @@ import {
   uniqueIndex,
   uuid,
 } from 'drizzle-orm/pg-core'
+import type { Spec } from '../shared/engine/spec'
+import type { EstimateResult } from '../shared/engine/result'
+import type { RunData, StudyIntervention, StudyStart, StudyWindow } from './jsonTypes'
 
 const bytea = customType<{ data: Buffer; driverData: Buffer }>({
   dataType: () => 'bytea',
@@ -196,9 +199,9 @@ export const studies = pgTable('studies', {
   transform: text('transform', { enum: ['level', 'log', 'rate'] }).notNull().default('level'),
   denominator: text('denominator'),
   treated: jsonb('treated').$type<string[]>().notNull(),
-  start: jsonb('start').$type<string | Record<string, string>>().notNull(),
-  interventions: jsonb('interventions').$type<{ jurisdiction: string, period: string, label: string }[]>().notNull().default([]),
-  window: jsonb('window').$type<{ pre: [string, string], post: [string, string] } | null>(),
+  start: jsonb('start').$type<StudyStart>().notNull(),
+  interventions: jsonb('interventions').$type<StudyIntervention[]>().notNull().default([]),
+  window: jsonb('window').$type<StudyWindow | null>(),
   covariates: jsonb('covariates').$type<string[]>().notNull().default([]),
   reviewerId: integer('reviewer_id').references(() => users.id),
   parentId: integer('parent_id'),
@@ -221,12 +224,13 @@ export const studyRuns = pgTable('study_runs', {
   id: serial('id').primaryKey(),
   studyId: integer('study_id').notNull().references(() => studies.id, { onDelete: 'cascade' }),
   design: text('design').notNull(),
-  spec: jsonb('spec').$type<Record<string, unknown>>().notNull(),
+  /** The engine's spec as parsed when the run was made. */
+  spec: jsonb('spec').$type<Spec>().notNull(),
   fingerprint: text('fingerprint').notNull(),
   releaseIds: jsonb('release_ids').$type<number[]>().notNull().default([]),
-  /** What the rows were read from (measures, units, period range, transform) and the pool as decided then. */
-  data: jsonb('data').$type<Record<string, unknown>>().notNull().default({}),
-  result: jsonb('result').$type<Record<string, unknown>>().notNull(),
+  /** What the rows were read from (measures, units, period range, transform) and the pool as decided then; {} on runs stored before migration 0001. */
+  data: jsonb('data').$type<RunData>().notNull().default(sql`'{}'::jsonb`),
+  result: jsonb('result').$type<EstimateResult>().notNull(),
   createdBy: integer('created_by').references(() => users.id),
   createdAt: createdAt(),
 }, t => [index('study_runs_study').on(t.studyId)])
@@ -304,5 +308,7 @@ export const jobs = pgTable('jobs', {
 })
 
 export type User = typeof users.$inferSelect
+export type Study = typeof studies.$inferSelect
+export type StudyRun = typeof studyRuns.$inferSelect
 export type Role = User['role']
 export const ROLES = ['admin', 'analyst', 'reviewer'] as const satisfies readonly Role[]

@@ -7,12 +7,10 @@
  */
 import type { H3Event } from 'h3'
 import { eq } from 'drizzle-orm'
-import { studies } from '~~/db/schema'
+import { studies, type Study } from '~~/db/schema'
 import { changeableNow, studyAccess, type StudyAction } from '../services/studies/access'
 import type { SessionUser } from './auth'
 import type { Db } from './db'
-
-export type Study = typeof studies.$inferSelect
 
 /** Throws the policy's refusal, if any, as an HTTP error. */
 export function assertStudyAccess(study: Study, user: SessionUser, action: StudyAction): void {

@@ -128,4 +128,12 @@ describe('workbook download', () => {
     expect((await anonymous().raw(`/api/studies/${f.studyId}/runs/${f.runs.did.id}/workbook`)).status).toBe(401)
     expect((await f.analyst.raw(`/api/studies/999999/runs/${f.runs.did.id}/workbook`)).status).toBe(404)
   })
+
+  it('finds no run of another study under a study the user may read (404)', async () => {
+    const other = await f.analyst.post('/api/studies', { title: `Other study ${f.tag}`, outcome: f.outcome, treated: [f.codes.treated], start: '2007' })
+    expect(other.status, JSON.stringify(other.body)).toBe(201)
+    const res = await f.analyst.raw(`/api/studies/${other.body.id}/runs/${f.runs.did.id}/workbook`)
+    expect(res.status).toBe(404)
+    expect((await res.json()).message).toBe(`Study ${other.body.id} has no run ${f.runs.did.id}.`)
+  })
 })

@@ -19,14 +19,18 @@ function listFiles(dir: string, prefix = ''): string[] {
     .sort()
 }
 
-describe('reference copies', () => {
-  const shared = path.resolve(repoRoot, '../shared/checks')
-  it.runIf(existsSync(shared))('are byte-identical to ../shared/checks', () => {
-    expect(listFiles(referenceDir)).toEqual(listFiles(shared))
-    for (const f of listFiles(shared)) expect(readFileSync(path.join(referenceDir, f)).equals(readFileSync(path.join(shared, f))), f).toBe(true)
+// The reference cases are copies of ../shared/checks. Only where that folder exists beside the
+// project (it is absent from a plain checkout) is this comparison registered: the copies must
+// then be byte-identical to it. Elsewhere the cases below run against the copies alone.
+const shared = path.resolve(repoRoot, '../shared/checks')
+if (existsSync(shared)) {
+  describe('reference copies', () => {
+    it('are byte-identical to ../shared/checks', () => {
+      expect(listFiles(referenceDir)).toEqual(listFiles(shared))
+      for (const f of listFiles(shared)) expect(readFileSync(path.join(referenceDir, f)).equals(readFileSync(path.join(shared, f))), f).toBe(true)
+    })
   })
-  it.skipIf(existsSync(shared))('are compared with ../shared/checks only where that folder exists (absent here)', () => {})
-})
+}
 
 /** Each README names the general-purpose software the values came from. */
 function checkSource(source: string): void {

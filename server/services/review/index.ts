@@ -3,10 +3,9 @@
  * row before and after; mails go out after the transaction commits.
  */
 import { and, asc, eq, inArray } from 'drizzle-orm'
-import { auditLog, comments, studies, studyPoolDecisions, studyRuns, users, validityNotes } from '~~/db/schema'
+import { auditLog, comments, studies, studyPoolDecisions, studyRuns, users, validityNotes, type Study } from '~~/db/schema'
 import type { ReviewAction } from '#shared/schemas/review'
 import type { SessionUser } from '../../utils/auth'
-import type { Study } from '../../utils/studyAccess'
 import { assertStudyAccess } from '../../utils/studyAccess'
 import { decideReview, reviewOutcomeMail, reviewRequestMail, reviewWithdrawnMail } from './rules'
 

@@ -8,14 +8,13 @@
  */
 import { and, eq, inArray } from 'drizzle-orm'
 import { robustnessRuns } from '~~/db/schema'
-import { isEngineError, type EstimateResult } from '~~/server/engine'
+import { isEngineError } from '~~/server/engine'
 import { alternativePools, isRobustnessCancelled, leaveOneOut, placeboInSpace, placeboInTime, type RobustnessHooks } from '~~/server/engine/robustness'
 import type { NamedPool, RobustnessKind, RobustnessResult } from '#shared/engine/robustness'
 import type { JobContext } from '~~/server/utils/jobs'
 import { JobCancelled, isJobCancelled } from '~~/server/utils/jobCancelled'
 import { fingerprintRows, loadRunRows, type StudyRow } from '../studies/runData'
 import { engineRows, readStudyRows } from '../studies/rows'
-import { studySource } from '../studies/candidates'
 
 export const ROBUSTNESS_JOB = 'robustness'
 const POLL_MS = 500
@@ -31,22 +30,22 @@ interface StoredSpec {
 
 
 /** The rows the check reads and what it computes, by kind. */
-async function compute(spec: StoredSpec, hooks: RobustnessHooks): Promise<{ rows: StudyRow[], result: RobustnessResult }> {
-  const { run, study, rows: runRows } = await loadRunRows(spec.runId)
+async function compute(studyId: number, spec: StoredSpec, hooks: RobustnessHooks): Promise<{ rows: StudyRow[], result: RobustnessResult }> {
+  const { run, study, rows: runRows } = await loadRunRows(studyId, spec.runId)
   const input = { rows: engineRows(runRows) }
-  const actual = (run.result as unknown as EstimateResult).effect.estimate
+  const actual = run.result.effect.estimate
   switch (spec.kind) {
     case 'placebo_time':
       return { rows: runRows, result: await placeboInTime(input.rows, spec.run, { minDistance: spec.minDistance, actual }, hooks) }
     case 'placebo_space':
-      return { rows: runRows, result: await placeboInSpace(input, spec.run, { result: run.result as unknown as EstimateResult }, hooks) }
+      return { rows: runRows, result: await placeboInSpace(input, spec.run, { result: run.result }, hooks) }
     case 'leave_one_out':
       return { rows: runRows, result: await leaveOneOut(input, spec.run, { actual }, hooks) }
     case 'pools': {
       const pools = spec.pools ?? []
       const treated = (spec.run.treated as string[] | undefined) ?? study.treated
       const units = [...new Set([...treated, ...pools.flatMap(p => p.units)])].sort()
-      const source = { ...(run.data as { source: ReturnType<typeof studySource> }).source }
+      const source = { ...run.data.source }
       const { rows } = await readStudyRows({ ...source, units })
       return { rows, result: await alternativePools({ rows: engineRows(rows) }, spec.run, pools, hooks) }
     }
@@ -81,7 +80,7 @@ export async function runRobustnessJob(robustnessId: number, job: JobContext): P
   }
   const spec = row.spec as unknown as StoredSpec
   try {
-    const { rows, result } = await compute(spec, hooks)
+    const { rows, result } = await compute(row.studyId, spec, hooks)
     const fingerprint = fingerprintRows(rows, row.spec)
     const stored = await db.update(robustnessRuns).set({ status: 'done', progress: 1, message: 'Done', result: result as unknown as Record<string, unknown>, fingerprint, updatedAt: new Date() })
       .where(and(eq(robustnessRuns.id, robustnessId), eq(robustnessRuns.status, 'running'))).returning({ id: robustnessRuns.id })

@@ -7,9 +7,9 @@
  */
 import type { NamedPool } from '#shared/engine/robustness'
 import { assemblePool, candidateContext, poolDecisions } from '../studies/candidates'
-import type { StudyRecord } from '../studies/runData'
+import type { Study } from '~~/db/schema'
 
-export async function namedPools(study: StudyRecord, runComparison: string[]): Promise<NamedPool[]> {
+export async function namedPools(study: Study, runComparison: string[]): Promise<NamedPool[]> {
   const ctx = await candidateContext(study)
   const { rows, summary } = assemblePool(ctx, await poolDecisions(study.id))
   const unflagged = rows.filter(r => !r.flagged).map(r => r.jurisdiction)

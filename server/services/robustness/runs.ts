@@ -6,11 +6,10 @@
  * Re-running is starting again: older rows stay as the record.
  */
 import { and, desc, eq, inArray } from 'drizzle-orm'
-import { robustnessRuns, studyRuns, users } from '~~/db/schema'
+import { robustnessRuns, studyRuns, users, type Study } from '~~/db/schema'
 import { ROBUSTNESS_LABELS, type RobustnessKind } from '#shared/engine/robustness'
 import type { robustnessStartSchema } from '#shared/schemas/robustness'
 import type { z } from 'zod'
-import type { StudyRecord } from '../studies/runData'
 import { namedPools } from './pools'
 import { ROBUSTNESS_JOB } from './job'
 
@@ -40,7 +39,7 @@ function hasPool(spec: Record<string, unknown>): boolean {
   return !!its?.comparison && its.comparison !== 'none'
 }
 
-export async function startRobustness(study: StudyRecord, userId: number, input: StartInput) {
+export async function startRobustness(study: Study, userId: number, input: StartInput) {
   const db = useDb()
   const where = input.runId ? and(eq(studyRuns.studyId, study.id), eq(studyRuns.id, input.runId)) : eq(studyRuns.studyId, study.id)
   const [run] = await db.select({ id: studyRuns.id, spec: studyRuns.spec, design: studyRuns.design }).from(studyRuns).where(where).orderBy(desc(studyRuns.id)).limit(1)

@@ -14,14 +14,14 @@
  */
 import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
 import { and, eq, inArray, lt, or } from 'drizzle-orm'
-import { jurisdictionNeighbours, jurisdictions, policyEvents, studyPoolDecisions } from '~~/db/schema'
+import { jurisdictionNeighbours, jurisdictions, policyEvents, studyPoolDecisions, type Study } from '~~/db/schema'
 import { scoreDonors, isEngineError, type DonorScores } from '~~/server/engine'
 import { comparePeriods, parsePeriod } from '#shared/utils/periods'
 import type { PoolRow } from '#shared/schemas/studies'
 import type { StudyRow } from './fingerprint'
-import { engineRows, readStudyRows, OUTCOME, type RowSource, type StudyRows } from './rows'
+import type { RowSource } from '~~/db/jsonTypes'
+import { engineRows, readStudyRows, OUTCOME, type StudyRows } from './rows'
 import { studySpecBase, startsOf } from './spec'
-import type { StudyRecord } from './runData'
 import { poolWeights, type PoolWeights } from './poolWeights'
 import { suggestPool } from './suggestedPool'
 
@@ -32,7 +32,7 @@ export type { PoolRow }
 export interface BalanceRow { measure: string, label: string, treated: number | null, pool: number | null, difference: number | null, standardised: number | null }
 
 export interface CandidateContext {
-  study: StudyRecord
+  study: Study
   source: RowSource
   data: StudyRows
   scores: DonorScores
@@ -45,7 +45,7 @@ export interface CandidateContext {
   weights: PoolWeights
 }
 
-export function studySource(study: StudyRecord, units: string[] = []): RowSource {
+export function studySource(study: Study, units: string[] = []): RowSource {
   return {
     outcome: study.outcome,
     covariates: study.covariates,
@@ -77,7 +77,7 @@ const CONTEXT_TTL_MS = 5 * 60_000
 /** Kept contexts, least recently used dropped first: room for every study in use (50 at once under load). */
 const CONTEXT_CACHE_SIZE = 100
 
-async function contextKey(study: StudyRecord, maxMissing: number): Promise<string> {
+async function contextKey(study: Study, maxMissing: number): Promise<string> {
   const { rows: [digest] } = await usePool().query<{ d: string }>(`SELECT concat_ws(':',
     (SELECT count(*) || '-' || coalesce(sum(id), 0) FROM source_releases WHERE status = 'done'),
     (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || period || kind || policy)), 0) FROM policy_events),
@@ -88,7 +88,7 @@ async function contextKey(study: StudyRecord, maxMissing: number): Promise<strin
 }
 
 /** Reads the rows, scores every candidate and finds the flags (no decisions yet). */
-export async function candidateContext(study: StudyRecord, maxMissing = 0.2): Promise<CandidateContext> {
+export async function candidateContext(study: Study, maxMissing = 0.2): Promise<CandidateContext> {
   const key = await contextKey(study, maxMissing)
   const hit = contexts.get(key)
   if (hit && Date.now() - hit.at < CONTEXT_TTL_MS) {
@@ -102,7 +102,7 @@ export async function candidateContext(study: StudyRecord, maxMissing = 0.2): Pr
   return ctx
 }
 
-async function buildCandidateContext(study: StudyRecord, maxMissing: number): Promise<CandidateContext> {
+async function buildCandidateContext(study: Study, maxMissing: number): Promise<CandidateContext> {
   const source = studySource(study)
   const data = await readStudyRows(source)
   const units = [...new Set(data.rows.map(r => r.jurisdiction))]

@@ -6,7 +6,7 @@
  */
 import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
 import { eq, inArray, sql } from 'drizzle-orm'
-import { jurisdictions, studies, studyPoolDecisions } from '~~/db/schema'
+import { jurisdictions, studies, studyPoolDecisions, type Study } from '~~/db/schema'
 import type { z } from 'zod'
 import type { poolPutSchema } from '#shared/schemas/studies'
 import type { SessionUser } from '../../utils/auth'
@@ -14,9 +14,8 @@ import { estimate, isEngineError } from '~~/server/engine'
 import { assemblePool, candidateContext, poolDecisions, type CandidateContext } from './candidates'
 import { engineRows } from './rows'
 import { buildRunSpec } from './spec'
-import type { StudyRecord } from './runData'
 
-export async function savePool(study: StudyRecord, user: SessionUser, body: z.output<typeof poolPutSchema>, k = SUGGESTED_POOL_SIZE) {
+export async function savePool(study: Study, user: SessionUser, body: z.output<typeof poolPutSchema>, k = SUGGESTED_POOL_SIZE) {
   const ctx = await candidateContext(study)
   const issues: { path: string, message: string }[] = []
   const seen = new Set<string>()

@@ -4,28 +4,15 @@
  * (newest release per cell, or only the given releases to reproduce an older read).
  */
 import { readPanel } from '../panel'
+import type { RowSource, RunRelease } from '~~/db/jsonTypes'
 import { compareRows, type StudyRow } from './fingerprint'
-
-/** Everything needed to read a study's rows again exactly. Stored with each run. */
-export interface RowSource {
-  outcome: string
-  covariates: string[]
-  denominator: string | null
-  transform: 'level' | 'log' | 'rate'
-  /** Jurisdiction codes to read; empty = every jurisdiction with data. */
-  units: string[]
-  from: string | null
-  to: string | null
-  /** Also keep the raw count and its denominator per row (COUNT, EXPOSURE), for count models. */
-  counts?: boolean
-}
 
 export interface StudyRows {
   rows: StudyRow[]
   /** Ids of the releases the rows came from (sorted). */
   releaseIds: number[]
   frequency: string
-  releases: { id: number, source: string, label: string | null, importedAt: string | null }[]
+  releases: RunRelease[]
 }
 
 export const OUTCOME = 'outcome'

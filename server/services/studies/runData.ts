@@ -4,38 +4,28 @@
  * from; reading those releases only gives the same rows, which are checked against the
  * run's fingerprint. For the workbook and anything else that must show a run's data.
  *
- *   loadRunRows(runId) -> { run, study, rows, pool }
+ *   loadRunRows(studyId, runId) -> { run, study, rows, pool }
  *     rows: [{ jurisdiction, period, values: { outcome, <covariate key>: number | null } }]
  *     pool: the candidates as they stood when the run was made (scores, flags, decisions)
- *   Throws 404 (no such run) and 409 (the data no longer match the fingerprint, e.g. a
- *   release the run used was removed).
+ *   Throws 404 (the study has no such run: a run of another study is not found) and 409 (the
+ *   data no longer match the fingerprint, e.g. a release the run used was removed).
  */
-import { eq } from 'drizzle-orm'
-import { studies, studyRuns } from '~~/db/schema'
+import { and, eq } from 'drizzle-orm'
+import { studies, studyRuns, type Study, type StudyRun } from '~~/db/schema'
+import type { PoolRow } from '#shared/schemas/studies'
 import { fingerprintRows, type StudyRow } from './fingerprint'
-import { readStudyRows, type RowSource } from './rows'
-import type { PoolRow } from './candidates'
+import { readStudyRows } from './rows'
 
 export { fingerprintRows, canonicalJson, type StudyRow } from './fingerprint'
 
-export type Run = typeof studyRuns.$inferSelect
-export type StudyRecord = typeof studies.$inferSelect
-
-/** What a run stores in study_runs.data. */
-export interface RunData {
-  source: RowSource
-  frequency: string
-  releases: { id: number, source: string, label: string | null, importedAt: string | null }[]
-  pool: PoolRow[]
-}
-
-export async function loadRunRows(runId: number): Promise<{ run: Run, study: StudyRecord, rows: StudyRow[], pool: PoolRow[] }> {
+export async function loadRunRows(studyId: number, runId: number): Promise<{ run: StudyRun, study: Study, rows: StudyRow[], pool: PoolRow[] }> {
   const db = useDb()
-  const [run] = await db.select().from(studyRuns).where(eq(studyRuns.id, runId))
-  if (!run) throw createError({ statusCode: 404, message: `No run with id ${runId}.` })
-  const [study] = await db.select().from(studies).where(eq(studies.id, run.studyId))
-  const data = run.data as unknown as RunData
-  const { rows } = await readStudyRows(data.source, run.releaseIds)
+  const [found] = await db.select({ run: studyRuns, study: studies }).from(studyRuns)
+    .innerJoin(studies, eq(studies.id, studyRuns.studyId))
+    .where(and(eq(studyRuns.id, runId), eq(studyRuns.studyId, studyId)))
+  if (!found) throw createError({ statusCode: 404, message: `Study ${studyId} has no run ${runId}.` })
+  const { run, study } = found
+  const { rows } = await readStudyRows(run.data.source, run.releaseIds)
   const fingerprint = fingerprintRows(rows, run.spec)
   if (fingerprint !== run.fingerprint) {
     throw createError({
@@ -43,5 +33,5 @@ export async function loadRunRows(runId: number): Promise<{ run: Run, study: Stu
       message: `The data behind run #${run.id} can no longer be read exactly as it was (its fingerprint no longer matches): a release it used may have been removed.`,
     })
   }
-  return { run, study: study!, rows, pool: data.pool ?? [] }
+  return { run, study, rows, pool: run.data.pool ?? [] }
 }

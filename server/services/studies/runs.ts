@@ -5,8 +5,9 @@
  * the same design: what moved (estimate, SE) and whether the data changed.
  */
 import { and, desc, eq, lt } from 'drizzle-orm'
-import { studyRuns, users } from '~~/db/schema'
-import { estimate, isEngineError, parseSpec, type EstimateResult } from '~~/server/engine'
+import { studyRuns, users, type Study, type StudyRun } from '~~/db/schema'
+import type { RunData } from '~~/db/jsonTypes'
+import { estimate, isEngineError, parseSpec, type EstimateResult, type Spec } from '~~/server/engine'
 import type { RunCreate } from '#shared/schemas/studies'
 import { runCreateSchema } from '#shared/schemas/studies'
 import type { z } from 'zod'
@@ -15,7 +16,6 @@ import { compareRuns } from './compareRuns'
 import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
 import { engineRows, readStudyRows } from './rows'
 import { buildRunSpec, isCountModel, laterInterventions, runUsesPool } from './spec'
-import type { Run, RunData, StudyRecord } from './runData'
 
 type RunInput = z.output<typeof runCreateSchema>
 
@@ -32,10 +32,9 @@ const runColumns = {
   createdBy: studyRuns.createdBy,
   createdByName: users.name,
 }
-type RunRow = Omit<Run, 'data'> & { data: unknown, createdByName: string | null }
+type RunRow = StudyRun & { createdByName: string | null }
 
 function present(run: RunRow, previous?: RunRow) {
-  const data = run.data as RunData
   return {
     id: run.id,
     studyId: run.studyId,
@@ -43,9 +42,10 @@ function present(run: RunRow, previous?: RunRow) {
     spec: run.spec,
     fingerprint: run.fingerprint,
     releaseIds: run.releaseIds,
-    releases: data.releases ?? [],
-    units: data.source?.units ?? [],
-    result: run.result as unknown as EstimateResult,
+    // a run stored before runs kept how they read their rows has data {}
+    releases: run.data.releases ?? [],
+    units: run.data.source?.units ?? [],
+    result: run.result,
     createdAt: run.createdAt,
     createdBy: run.createdByName,
     compare: compareRuns(run, previous),
@@ -53,7 +53,7 @@ function present(run: RunRow, previous?: RunRow) {
 }
 export type RunView = ReturnType<typeof present>
 
-export async function createRun(study: StudyRecord, userId: number, input: RunInput | RunCreate) {
+export async function createRun(study: Study, userId: number, input: RunInput | RunCreate) {
   const { design, options } = runCreateSchema.parse(input)
   const ctx = await candidateContext(study)
   const decisions = await poolDecisions(study.id)
@@ -69,9 +69,9 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
   const periods = [...new Set(read.rows.map(r => r.period))].sort()
   const specInput = buildRunSpec(study, design, options, comparison, periods)
   let result: EstimateResult
-  let spec: Record<string, unknown>
+  let spec: Spec
   try {
-    spec = parseSpec(specInput) as unknown as Record<string, unknown>
+    spec = parseSpec(specInput)
     result = estimate({ rows: engineRows(read.rows) }, spec)
   }
   catch (e) {
@@ -82,7 +82,7 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
     result.warnings.push(`Group-time effects use every period and no covariates, so the study's ${[study.window ? 'window' : '', study.covariates.length ? 'covariates' : ''].filter(Boolean).join(' and ')} ${study.window && study.covariates.length ? 'are' : 'is'} not applied in this run.`)
   }
   const later = laterInterventions(study)
-  const phases = (spec.did as { phases?: unknown[] } | undefined)?.phases
+  const phases = spec.did?.phases
   if (design === 'did' && later.length && !phases?.length) {
     result.warnings.push(`The treated period spans a later intervention (${later.map(l => `${l.label}, ${l.period}`).join('; ')}): this estimate averages over it. Choose "each intervention separately" to estimate each phase.`)
   }
@@ -92,8 +92,7 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
   const id = await db.transaction(async (tx) => {
     await lockStudyForChange(tx, study.id)
     const [row] = await tx.insert(studyRuns).values({
-      studyId: study.id, design, spec, fingerprint, releaseIds: read.releaseIds, data: data as unknown as Record<string, unknown>,
-      result: result as unknown as Record<string, unknown>, createdBy: userId,
+      studyId: study.id, design, spec, fingerprint, releaseIds: read.releaseIds, data, result, createdBy: userId,
     }).returning({ id: studyRuns.id })
     await audit(tx, { userId, action: 'run', entity: 'study', entityId: study.id, after: { runId: row!.id, design, fingerprint, releaseIds: read.releaseIds, effect: result.effect } })
     return row!.id
@@ -103,7 +102,7 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
 
 export async function listRuns(studyId: number) {
   const rows = await useDb().select(runColumns).from(studyRuns).leftJoin(users, eq(users.id, studyRuns.createdBy))
-    .where(eq(studyRuns.studyId, studyId)).orderBy(desc(studyRuns.id)) as RunRow[]
+    .where(eq(studyRuns.studyId, studyId)).orderBy(desc(studyRuns.id))
   // newest first; each run compared with the one before it of the same design
   return rows.map((r, i) => present(r, rows.slice(i + 1).find(p => p.design === r.design)))
 }
@@ -111,10 +110,10 @@ export async function listRuns(studyId: number) {
 export async function getRun(studyId: number, runId: number) {
   const db = useDb()
   const [run] = await db.select(runColumns).from(studyRuns).leftJoin(users, eq(users.id, studyRuns.createdBy))
-    .where(and(eq(studyRuns.id, runId), eq(studyRuns.studyId, studyId))) as RunRow[]
+    .where(and(eq(studyRuns.id, runId), eq(studyRuns.studyId, studyId)))
   if (!run) throw createError({ statusCode: 404, message: `Study ${studyId} has no run ${runId}.` })
   const [previous] = await db.select(runColumns).from(studyRuns).leftJoin(users, eq(users.id, studyRuns.createdBy))
     .where(and(eq(studyRuns.studyId, studyId), eq(studyRuns.design, run.design), lt(studyRuns.id, runId)))
-    .orderBy(desc(studyRuns.id)).limit(1) as RunRow[]
+    .orderBy(desc(studyRuns.id)).limit(1)
   return present(run, previous)
 }

@@ -8,19 +8,14 @@
  * and seasonal dummies for monthly or quarterly data. Pure.
  */
 import type { SpecInput } from '#shared/engine/spec'
+import type { Study } from '~~/db/schema'
 import type { RunDesign } from '#shared/schemas/studies'
 import { parsePeriod } from '#shared/utils/periods'
 import type { z } from 'zod'
 import type { runOptionsSchema } from '#shared/schemas/studies'
 
-export interface StudyForSpec {
-  treated: string[]
-  start: string | Record<string, string>
-  interventions: { jurisdiction: string, period: string, label: string }[]
-  window: { pre: [string, string], post: [string, string] } | null
-  covariates: string[]
-  transform: 'level' | 'log' | 'rate'
-}
+/** The fields of a study the spec is built from. */
+export type StudyForSpec = Pick<Study, 'treated' | 'start' | 'interventions' | 'window' | 'covariates' | 'transform'>
 
 export type RunOptions = z.output<typeof runOptionsSchema>
 

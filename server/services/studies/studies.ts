@@ -5,12 +5,11 @@
  * outcome's frequency.
  */
 import { desc, eq, inArray, sql } from 'drizzle-orm'
-import { jurisdictions, measures, studies, studyPoolDecisions, users } from '~~/db/schema'
+import { jurisdictions, measures, studies, studyPoolDecisions, users, type Study } from '~~/db/schema'
 import { refineStudy, type studyCreateSchema, type studyPatchSchema } from '#shared/schemas/studies'
 import { parsePeriod } from '#shared/utils/periods'
 import { z } from 'zod'
 import type { SessionUser } from '../../utils/auth'
-import type { StudyRecord } from './runData'
 import { editState } from './access'
 import { refuseArchived } from './archivedRefs'
 
@@ -34,7 +33,7 @@ export async function listStudies(query: { status?: string, mine?: string, owner
     select json_build_object('id', r.id, 'design', r.design, 'createdAt', r.created_at, 'estimate', (r.result->'effect'->>'estimate')::float8)
     from study_runs r where r.study_id = "studies"."id" order by r.id desc limit 1)`
   const where = and2(
-    query.status ? eq(studies.status, query.status as StudyRecord['status']) : undefined,
+    query.status ? eq(studies.status, query.status as Study['status']) : undefined,
     query.mine ? eq(studies.ownerId, user.id) : undefined,
     query.owner ? eq(studies.ownerId, query.owner) : undefined,
     query.outcome ? eq(studies.outcome, query.outcome) : undefined,
@@ -113,7 +112,7 @@ export async function createStudy(user: SessionUser, body: Create) {
   })
 }
 
-export async function getStudy(study: StudyRecord, user: SessionUser) {
+export async function getStudy(study: Study, user: SessionUser) {
   const db = useDb()
   const [owner] = await db.select({ name: users.name, email: users.email }).from(users).where(eq(users.id, study.ownerId))
   const codes = [...new Set([...study.treated, ...study.interventions.map(i => i.jurisdiction)])]
@@ -129,7 +128,7 @@ export async function getStudy(study: StudyRecord, user: SessionUser) {
   }
 }
 
-export async function updateStudy(study: StudyRecord, user: SessionUser, patch: Patch) {
+export async function updateStudy(study: Study, user: SessionUser, patch: Patch) {
   const next = {
     title: patch.title ?? study.title,
     question: patch.question === undefined ? study.question : patch.question,

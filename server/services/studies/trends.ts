@@ -10,7 +10,7 @@ import { parsePeriod, seasonOf } from '#shared/utils/periods'
 import { candidateContext, includedPool, poolDecisions } from './candidates'
 import { engineRows, OUTCOME } from './rows'
 import { buildRunSpec, startsOf } from './spec'
-import type { StudyRecord } from './runData'
+import type { Study } from '~~/db/schema'
 
 const mean = (xs: number[]) => (xs.length ? xs.reduce((a, b) => a + b, 0) / xs.length : null)
 
@@ -68,7 +68,7 @@ export function readLeadTest(result: EstimateResult | null) {
 }
 
 /** `window`: the event study's window in periods from the start (ends binned); by default it follows the data. */
-export async function studyTrends(study: StudyRecord, window?: { from: number, to: number }) {
+export async function studyTrends(study: Study, window?: { from: number, to: number }) {
   const ctx = await candidateContext(study)
   const pool = includedPool(ctx, await poolDecisions(study.id))
   const treated = new Set(study.treated)

@@ -17,8 +17,8 @@ import { threatEvidence, type RevisedCell } from '~~/server/engine/threats'
 import { candidateContext, includedPool, poolDecisions } from '../studies/candidates'
 import { OUTCOME } from '../studies/rows'
 import { studyTrends } from '../studies/trends'
-import type { StudyRecord } from '../studies/runData'
 import type { WorkbookThreatEvidence } from '../workbook/threatEvidenceSheet'
+import type { Study } from '~~/db/schema'
 
 export type LabelledEvidence = ThreatEvidence & { label: string }
 
@@ -50,7 +50,7 @@ async function revisedCells(measures: string[], units: string[], from: string | 
 
 const toSeries = (xs: (number | null)[]) => Float64Array.from(xs, v => (v == null ? NaN : v))
 
-export async function studyEvidence(study: StudyRecord): Promise<StudyEvidence> {
+export async function studyEvidence(study: Study): Promise<StudyEvidence> {
   const ctx = await candidateContext(study)
   const pool = includedPool(ctx, await poolDecisions(study.id))
   const trends = await studyTrends(study)
@@ -106,7 +106,7 @@ export async function studyEvidence(study: StudyRecord): Promise<StudyEvidence> 
  * failure here never stops the workbook or the report: the sheet and the section say it was
  * not computed (with the data's reason for a 400; any other failure is logged).
  */
-export async function evidenceForWorkbook(study: StudyRecord): Promise<WorkbookThreatEvidence> {
+export async function evidenceForWorkbook(study: Study): Promise<WorkbookThreatEvidence> {
   try {
     const e = await studyEvidence(study)
     return { threats: e.threats, computedAt: new Date(), note: e.note }

@@ -5,7 +5,6 @@
  */
 import { and, desc, eq, inArray } from 'drizzle-orm'
 import { auditLog, measures, sourceReleases, sources, users, validityNotes } from '~~/db/schema'
-import type { EstimateResult } from '#shared/engine/result'
 import pkg from '~~/package.json'
 import type { SessionUser } from '../../utils/auth'
 import { loadRunRows } from '../studies/runData'
@@ -15,8 +14,7 @@ import { buildWorkbook, type WorkbookInput, workbookFileName } from './build'
 import { evidenceForWorkbook } from '../validity/evidence'
 
 export async function workbookInput(studyId: number, runId: number, user: SessionUser): Promise<WorkbookInput> {
-  const { run, study, rows, pool } = await loadRunRows(runId)
-  if (run.studyId !== studyId) throw createError({ statusCode: 404, message: `Study ${studyId} has no run ${runId}.` })
+  const { run, study, rows, pool } = await loadRunRows(studyId, runId)
   const db = useDb()
   const keys = [study.outcome, ...study.covariates]
   const [measureRows, notes, releases, creator, approval] = await Promise.all([
@@ -42,7 +40,7 @@ export async function workbookInput(studyId: number, runId: number, user: Sessio
       interventions: study.interventions, approval,
     },
     run: {
-      id: run.id, design: run.design, spec: run.spec, fingerprint: run.fingerprint, result: run.result as unknown as EstimateResult,
+      id: run.id, design: run.design, spec: run.spec, fingerprint: run.fingerprint, result: run.result,
       createdAt: run.createdAt, createdBy: creator[0] ? `${creator[0].name} (${creator[0].email})` : null,
     },
     pool: pool.map(p => ({

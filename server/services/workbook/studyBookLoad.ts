@@ -4,17 +4,15 @@
  * and the validity record.
  */
 import { desc, eq, inArray } from 'drizzle-orm'
-import { measures, studyRuns, users, validityNotes } from '~~/db/schema'
-import type { EstimateResult } from '#shared/engine/result'
+import { measures, studyRuns, users, validityNotes, type Study } from '~~/db/schema'
 import pkg from '~~/package.json'
 import type { SessionUser } from '../../utils/auth'
-import type { StudyRecord } from '../studies/runData'
 import { assemblePool, candidateContext, poolDecisions } from '../studies/candidates'
 import { approvalOf } from './load'
 import { buildStudyBook, type StudyBookInput, studyBookFileName } from './studyBook'
 
 /** The pool as the Pool step shows it now; a study whose candidates cannot be scored (no data yet) has an empty pool sheet. */
-async function currentPool(study: StudyRecord): Promise<StudyBookInput['pool']> {
+async function currentPool(study: Study): Promise<StudyBookInput['pool']> {
   try {
     const ctx = await candidateContext(study)
     const { rows } = assemblePool(ctx, await poolDecisions(study.id))
@@ -30,7 +28,7 @@ async function currentPool(study: StudyRecord): Promise<StudyBookInput['pool']> 
   }
 }
 
-export async function studyBookInput(study: StudyRecord, user: SessionUser): Promise<StudyBookInput> {
+export async function studyBookInput(study: Study, user: SessionUser): Promise<StudyBookInput> {
   const db = useDb()
   const [runs, notes, outcome, approval, pool] = await Promise.all([
     db.select({ run: studyRuns, name: users.name, email: users.email }).from(studyRuns).leftJoin(users, eq(users.id, studyRuns.createdBy))
@@ -47,7 +45,7 @@ export async function studyBookInput(study: StudyRecord, user: SessionUser): Pro
       status: study.status, version: study.version, interventions: study.interventions, approval,
     },
     runs: runs.map(({ run, name, email }) => ({
-      id: run.id, design: run.design, spec: run.spec, fingerprint: run.fingerprint, result: run.result as unknown as EstimateResult,
+      id: run.id, design: run.design, spec: run.spec, fingerprint: run.fingerprint, result: run.result,
       createdAt: run.createdAt, createdBy: name ? `${name} (${email})` : null,
     })),
     pool,
@@ -57,7 +55,7 @@ export async function studyBookInput(study: StudyRecord, user: SessionUser): Pro
   }
 }
 
-export async function studyWorkbook(study: StudyRecord, user: SessionUser) {
+export async function studyWorkbook(study: Study, user: SessionUser) {
   const input = await studyBookInput(study, user)
   return { buffer: await buildStudyBook(input), fileName: studyBookFileName(study.title, study.version), runs: input.runs.length }
 }
