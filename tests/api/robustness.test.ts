@@ -67,13 +67,23 @@ describe('robustness checks of a run', () => {
     expect(db.fingerprint).toMatch(/^[0-9a-f]{64}$/)
   })
 
-  it('placebo in time: fake starts in the pre-period with the run\'s effect as the actual one', () => {
+  it('placebo in time: fake starts in the pre-period, the actual effect over the same matched window', async () => {
     const r = byKind('placebo_time').result
     expect(byKind('placebo_time').spec.minDistance).toBe(3)
     // data 2001-2012, start 2007: pre-period 2001-2006 (6 periods), fake start 2004 only
     expect(r.prePeriods).toBe(6)
     expect(r.fakes.map((x: any) => x.start)).toEqual(['2004'])
-    expect(r.actual.estimate).toBeCloseTo(f.runs.did.result.effect.estimate, 12)
+    expect(r.runEstimate).toBeCloseTo(f.runs.did.result.effect.estimate, 12)
+    // every effect over 3 periods either side of its start: the actual one on 2004-2006 against 2007-2009,
+    // the fake one on 2001-2003 against 2004-2006, each a fresh estimate on the rows read back
+    expect(r.window).toBe(3)
+    const rows = (await readRowsBack(f.runs.did.id)).map(x => ({ unit: x.jurisdiction, period: x.period, values: x.values }))
+    const analytic = { ...f.runs.did.spec, inference: { ...f.runs.did.spec.inference, method: 'analytic' } }
+    const windowed = (pre: [string, string], post: [string, string], start: string, data = rows) =>
+      estimate({ rows: data }, { ...analytic, start, window: { pre, post } }).effect.estimate
+    expect(r.actual.estimate).toBeCloseTo(windowed(['2004', '2006'], ['2007', '2009'], '2007'), 10)
+    const preRows = rows.filter(x => Number(x.period) < 2007)
+    expect(r.fakes[0].estimate).toBeCloseTo(windowed(['2001', '2003'], ['2004', '2006'], '2004', preRows), 10)
     expect(r.share).toBe(r.atLeastAsLarge / r.n)
   })
 
