@@ -78,7 +78,7 @@ export async function startStack(): Promise<Stack> {
     cwd: ROOT,
     detached: true,
     stdio: ['ignore', openSync(webLog, 'w'), openSync(webLog, 'a')],
-    env: { ...env, COUNTERPART_ROLE: 'web', HOST: '127.0.0.1', PORT: String(port), NUXT_AUTH_SECRET: 'counterpart-load-secret', AUTH_ORIGIN: `${url}/api/auth`, PUBLIC_ORIGIN: url },
+    env: { ...env, COUNTERPART_ROLE: 'web', HOST: '127.0.0.1', PORT: String(port), NUXT_AUTH_SECRET: 'counterpart-load-benchmark-secret-of-48-characters', AUTH_ORIGIN: `${url}/api/auth`, PUBLIC_ORIGIN: url },
   })
   const socket = join(DATA, 'run/load-worker.sock')
   const worker = spawn('bash', ['scripts/worker.sh'], {

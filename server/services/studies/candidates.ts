@@ -15,11 +15,12 @@
 import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
 import { and, eq, inArray, lt, or } from 'drizzle-orm'
 import { jurisdictionNeighbours, jurisdictions, policyEvents, studyPoolDecisions } from '~~/db/schema'
-import { scoreDonors, isEngineError, type DonorScores } from '~~/server/engine'
+import { isEngineError, type DonorScores } from '~~/server/engine'
+import { engineTask, packRows } from '~~/server/utils/enginePool'
 import { comparePeriods, parsePeriod } from '#shared/utils/periods'
 import type { PoolRow } from '#shared/schemas/studies'
 import type { StudyRow } from './fingerprint'
-import { engineRows, readStudyRows, OUTCOME, type RowSource, type StudyRows } from './rows'
+import { readStudyRows, OUTCOME, type RowSource, type StudyRows } from './rows'
 import { studySpecBase, startsOf } from './spec'
 import type { StudyRecord } from './runData'
 import { poolWeights, type PoolWeights } from './poolWeights'
@@ -115,7 +116,7 @@ async function buildCandidateContext(study: StudyRecord, maxMissing: number): Pr
   if (!candidates.length) badRequest(`No other jurisdiction has ${study.outcome} data to compare with.`)
   let scores: DonorScores
   try {
-    scores = scoreDonors({ rows: engineRows(data.rows) }, { ...studySpecBase(study), design: 'did', comparison: candidates })
+    scores = await engineTask({ kind: 'scoreDonors', rows: packRows(data.rows), spec: { ...studySpecBase(study), design: 'did', comparison: candidates } }) // in an engine thread
   }
   catch (e) {
     if (isEngineError(e)) badRequest(e.message)

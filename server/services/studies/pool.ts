@@ -10,9 +10,9 @@ import { jurisdictions, studies, studyPoolDecisions } from '~~/db/schema'
 import type { z } from 'zod'
 import type { poolPutSchema } from '#shared/schemas/studies'
 import type { SessionUser } from '../../utils/auth'
-import { estimate, isEngineError } from '~~/server/engine'
+import { isEngineError } from '~~/server/engine'
+import { engineTask, packRows } from '~~/server/utils/enginePool'
 import { assemblePool, candidateContext, poolDecisions, type CandidateContext } from './candidates'
-import { engineRows } from './rows'
 import { buildRunSpec } from './spec'
 import type { StudyRecord } from './runData'
 
@@ -49,7 +49,7 @@ export async function savePool(study: StudyRecord, user: SessionUser, body: z.ou
     })
   })
   const pool = assemblePool(ctx, await poolDecisions(study.id), k)
-  return { ...pool, preview: previewEstimate(ctx, pool.rows.filter(r => r.included).map(r => r.jurisdiction)) }
+  return { ...pool, preview: await previewEstimate(ctx, pool.rows.filter(r => r.included).map(r => r.jurisdiction)) }
 }
 
 /**
@@ -61,14 +61,14 @@ export async function savePool(study: StudyRecord, user: SessionUser, body: z.ou
  * 19 comparison units for one treated unit). `inference` says which method stands behind p
  * and the interval, and why.
  */
-export function previewEstimate(ctx: CandidateContext, pool: string[]) {
+export async function previewEstimate(ctx: CandidateContext, pool: string[]) {
   const none = (error: string) => ({ design: 'did' as const, effect: null, nClusters: null, inference: null, warnings: [] as string[], error })
   if (!pool.length) return none('The pool is empty.')
   const keep = new Set([...ctx.study.treated, ...pool])
   const rows = ctx.data.rows.filter(r => keep.has(r.jurisdiction))
   const periods = [...new Set(rows.map(r => r.period))].sort()
   try {
-    const result = estimate({ rows: engineRows(rows) }, buildRunSpec(ctx.study, 'did', {}, pool, periods))
+    const result = await engineTask({ kind: 'estimate', rows: packRows(rows), spec: buildRunSpec(ctx.study, 'did', {}, pool, periods) }) // in an engine thread
     const inf = result.inference
     return {
       design: 'did' as const,

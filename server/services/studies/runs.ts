@@ -6,14 +6,14 @@
  */
 import { and, desc, eq, lt } from 'drizzle-orm'
 import { studyRuns, users } from '~~/db/schema'
-import { estimate, isEngineError, parseSpec, type EstimateResult } from '~~/server/engine'
+import { isEngineError, type EstimateResult } from '~~/server/engine'
+import { engineTask, packRows } from '~~/server/utils/enginePool'
 import type { RunCreate } from '#shared/schemas/studies'
 import { runCreateSchema } from '#shared/schemas/studies'
 import type { z } from 'zod'
-import { fingerprintRows } from './fingerprint'
 import { compareRuns } from './compareRuns'
 import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
-import { engineRows, readStudyRows } from './rows'
+import { readStudyRows } from './rows'
 import { buildRunSpec, isCountModel, laterInterventions, runUsesPool } from './spec'
 import type { Run, RunData, StudyRecord } from './runData'
 
@@ -70,9 +70,10 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
   const specInput = buildRunSpec(study, design, options, comparison, periods)
   let result: EstimateResult
   let spec: Record<string, unknown>
+  let fingerprint: string
   try {
-    spec = parseSpec(specInput) as unknown as Record<string, unknown>
-    result = estimate({ rows: engineRows(read.rows) }, spec)
+    // parse, estimate and fingerprint in an engine thread (server/utils/enginePool.ts)
+    ;({ spec, result, fingerprint } = await engineTask({ kind: 'run', rows: packRows(read.rows), spec: specInput }))
   }
   catch (e) {
     if (isEngineError(e)) badRequest(e.message)
@@ -86,7 +87,6 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
   if (design === 'did' && later.length && !phases?.length) {
     result.warnings.push(`The treated period spans a later intervention (${later.map(l => `${l.label}, ${l.period}`).join('; ')}): this estimate averages over it. Choose "each intervention separately" to estimate each phase.`)
   }
-  const fingerprint = fingerprintRows(read.rows, spec)
   const data: RunData = { source, frequency: read.frequency, releases: read.releases, pool: assemblePool(ctx, decisions).rows }
   const db = useDb()
   const id = await db.transaction(async (tx) => {

@@ -1,0 +1,52 @@
+/**
+ * What the engine thread does: each task calls the engine (server/engine) exactly as the web
+ * process would, on rows packed by packedRows.ts. The same function runs inside the thread
+ * and, where no thread bundle exists (tests, scripts from source), in-process
+ * (server/utils/enginePool.ts). Pure: the engine and node:crypto only.
+ *
+ *   estimate        estimate(rows, spec)                           -> EstimateResult
+ *   run             parseSpec(spec), estimate, and the fingerprint of the rows under the
+ *                   parsed spec (fingerprint.ts)                   -> { spec, result, fingerprint }
+ *   scoreDonors     scoreDonors(rows, spec)                        -> DonorScores
+ *   threatEvidence  threatEvidence(input)                          -> ThreatEvidence[]
+ */
+import { estimate, parseSpec, scoreDonors, type EstimateResult } from '../../engine'
+import { threatEvidence, type ThreatInput } from '../../engine/threats'
+import type { DonorScores } from '../../../shared/engine/result'
+import type { ThreatEvidence } from '../../../shared/engine/threats'
+import { fingerprintRows, type StudyRow } from '../studies/fingerprint'
+import { unpackRows, type PackedRows } from './packedRows'
+
+export type EngineTask =
+  | { kind: 'estimate', rows: PackedRows, spec: unknown }
+  | { kind: 'run', rows: PackedRows, spec: unknown }
+  | { kind: 'scoreDonors', rows: PackedRows, spec: unknown }
+  | { kind: 'threatEvidence', input: ThreatInput }
+
+export interface RunOutcome { spec: Record<string, unknown>, result: EstimateResult, fingerprint: string }
+
+export interface EngineAnswers {
+  estimate: EstimateResult
+  run: RunOutcome
+  scoreDonors: DonorScores
+  threatEvidence: ThreatEvidence[]
+}
+
+const engineRows = (rows: readonly StudyRow[]) => rows.map(r => ({ unit: r.jurisdiction, period: r.period, values: r.values }))
+
+export function runEngineTask(task: EngineTask): EngineAnswers[EngineTask['kind']] {
+  switch (task.kind) {
+    case 'estimate':
+      return estimate({ rows: engineRows(unpackRows(task.rows)) }, task.spec)
+    case 'run': {
+      const rows = unpackRows(task.rows)
+      const spec = parseSpec(task.spec) as unknown as Record<string, unknown>
+      const result = estimate({ rows: engineRows(rows) }, spec)
+      return { spec, result, fingerprint: fingerprintRows(rows, spec) }
+    }
+    case 'scoreDonors':
+      return scoreDonors({ rows: engineRows(unpackRows(task.rows)) }, task.spec)
+    case 'threatEvidence':
+      return threatEvidence(task.input)
+  }
+}
