@@ -254,12 +254,19 @@ export function assemblePool(ctx: CandidateContext, decisions: { jurisdiction: s
   }
 }
 
+/** Each unit's pre-period means per key, kept with the context's rows (they never change once read). */
+const unitMeansMemo = new WeakMap<StudyRows, Map<string, Map<string, number>>>()
+
 /** Pre-period means of the outcome and each covariate: treated units against the pool. */
 export function balance(ctx: CandidateContext, pool: string[]): BalanceRow[] {
   const keys = [OUTCOME, ...ctx.study.covariates]
   const inPool = new Set(pool)
   const treated = new Set(ctx.study.treated)
+  let memo = unitMeansMemo.get(ctx.data)
+  if (!memo) unitMeansMemo.set(ctx.data, (memo = new Map()))
   const unitMeans = (rows: StudyRow[], key: string) => {
+    const known = memo.get(`${key}\u0000${[...ctx.prePeriods].join(',')}`)
+    if (known) return known
     const acc = new Map<string, [number, number]>()
     for (const r of rows) {
       const v = r.values[key]
@@ -269,7 +276,9 @@ export function balance(ctx: CandidateContext, pool: string[]): BalanceRow[] {
       a[1]++
       acc.set(r.jurisdiction, a)
     }
-    return new Map([...acc].map(([u, [s, n]]) => [u, s / n]))
+    const means = new Map([...acc].map(([u, [s, n]]) => [u, s / n]))
+    memo.set(`${key}\u0000${[...ctx.prePeriods].join(',')}`, means)
+    return means
   }
   const mean = (xs: number[]) => (xs.length ? xs.reduce((a, b) => a + b, 0) / xs.length : null)
   return keys.map((key) => {
