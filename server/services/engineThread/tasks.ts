@@ -7,6 +7,9 @@
  *   estimate        estimate(rows, spec)                           -> EstimateResult
  *   run             parseSpec(spec), estimate, and the fingerprint of the rows under the
  *                   parsed spec (fingerprint.ts)                   -> { spec, result, fingerprint }
+ *                   With rowsKey (what identifies the rows: their source and the releases
+ *                   they came from, which never change once imported), the hash of the rows
+ *                   is kept and reused for the next run on the same rows, whatever its spec.
  *   scoreDonors     scoreDonors(rows, spec)                        -> DonorScores
  *   threatEvidence  threatEvidence(input)                          -> ThreatEvidence[]
  */
@@ -14,12 +17,13 @@ import { estimate, parseSpec, scoreDonors, type EstimateResult } from '../../eng
 import { threatEvidence, type ThreatInput } from '../../engine/threats'
 import type { DonorScores } from '../../../shared/engine/result'
 import type { ThreatEvidence } from '../../../shared/engine/threats'
-import { fingerprintRows, type StudyRow } from '../studies/fingerprint'
+import type { Hash } from 'node:crypto'
+import { fingerprintWith, hashRows, type StudyRow } from '../studies/fingerprint'
 import { unpackRows, type PackedRows } from './packedRows'
 
 export type EngineTask =
   | { kind: 'estimate', rows: PackedRows, spec: unknown }
-  | { kind: 'run', rows: PackedRows, spec: unknown }
+  | { kind: 'run', rows: PackedRows, spec: unknown, rowsKey?: string }
   | { kind: 'scoreDonors', rows: PackedRows, spec: unknown }
   | { kind: 'threatEvidence', input: ThreatInput }
 
@@ -32,6 +36,22 @@ export interface EngineAnswers {
   threatEvidence: ThreatEvidence[]
 }
 
+/** Hashes of rows by rowsKey, least recently used dropped first. */
+const rowHashes = new Map<string, Hash>()
+const ROW_HASHES_KEPT = 64
+
+function rowsHash(rows: readonly StudyRow[], key: string | undefined): Hash {
+  if (key === undefined) return hashRows(rows)
+  let hash = rowHashes.get(key)
+  if (hash) rowHashes.delete(key)
+  else {
+    hash = hashRows(rows)
+    if (rowHashes.size >= ROW_HASHES_KEPT) rowHashes.delete(rowHashes.keys().next().value!)
+  }
+  rowHashes.set(key, hash)
+  return hash
+}
+
 const engineRows = (rows: readonly StudyRow[]) => rows.map(r => ({ unit: r.jurisdiction, period: r.period, values: r.values }))
 
 export function runEngineTask(task: EngineTask): EngineAnswers[EngineTask['kind']] {
@@ -42,7 +62,7 @@ export function runEngineTask(task: EngineTask): EngineAnswers[EngineTask['kind'
       const rows = unpackRows(task.rows)
       const spec = parseSpec(task.spec) as unknown as Record<string, unknown>
       const result = estimate({ rows: engineRows(rows) }, spec)
-      return { spec, result, fingerprint: fingerprintRows(rows, spec) }
+      return { spec, result, fingerprint: fingerprintWith(rowsHash(rows, task.rowsKey), spec) }
     }
     case 'scoreDonors':
       return scoreDonors({ rows: engineRows(unpackRows(task.rows)) }, task.spec)

@@ -5,7 +5,7 @@
  * equal fingerprint whatever order they were read in; any changed value, added or dropped
  * row, or spec change gives a different one. Pure: no database, no framework.
  */
-import { createHash } from 'node:crypto'
+import { createHash, type Hash } from 'node:crypto'
 
 export interface StudyRow {
   jurisdiction: string
@@ -55,6 +55,21 @@ function valuesText(values: Record<string, number | null>, orders: Map<string, {
 }
 
 export function fingerprintRows(rows: readonly StudyRow[], spec?: unknown): string {
+  return fingerprintWith(hashRows(rows), spec)
+}
+
+/**
+ * The fingerprint from a hash of the rows (hashRows): a copy of it takes the spec, so one
+ * hash of the rows serves every spec run on them.
+ */
+export function fingerprintWith(rowsHash: Hash, spec?: unknown): string {
+  const hash = rowsHash.copy()
+  hash.update(`spec\t${canonicalJson(spec ?? null)}\n`)
+  return hash.digest('hex')
+}
+
+/** SHA-256 over the rows' canonical text (the first part of a fingerprint). */
+export function hashRows(rows: readonly StudyRow[]): Hash {
   const hash = createHash('sha256')
   const sorted = [...rows].sort(compareRows)
   const orders = new Map<string, { keys: string[], quoted: string[] }>()
@@ -67,6 +82,5 @@ export function fingerprintRows(rows: readonly StudyRow[], spec?: unknown): stri
     if (lines.length === 512) hash.update(lines.splice(0).join(''))
   }
   if (lines.length) hash.update(lines.join(''))
-  hash.update(`spec\t${canonicalJson(spec ?? null)}\n`)
-  return hash.digest('hex')
+  return hash
 }

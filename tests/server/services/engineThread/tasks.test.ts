@@ -56,3 +56,15 @@ describe('engine tasks', () => {
     expect(() => runEngineTask({ kind: 'estimate', rows: packRows(rows), spec: { ...spec, start: '2019-01' } })).toThrow(/pre/i)
   })
 })
+
+describe('the run task\'s kept row hash', () => {
+  it('gives the same fingerprint as hashing afresh, for every spec run on the same rows', () => {
+    const key = JSON.stringify(['kept-hash test', [1, 2]])
+    const other = { ...spec, comparison: ['A', 'B'] }
+    for (const s of [spec, other, spec]) {
+      const out = runEngineTask({ kind: 'run', rows: packRows(rows), spec: s, rowsKey: key }) as { fingerprint: string }
+      expect(out.fingerprint).toBe(fingerprintRows(rows, parseSpec(s)))
+    }
+    expect(fingerprintRows(rows, parseSpec(other))).not.toBe(fingerprintRows(rows, parseSpec(spec)))
+  })
+})
