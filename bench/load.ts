@@ -159,8 +159,9 @@ async function main() {
     else {
       if (probe.status >= 400) throw new Error(`robustness: ${probe.status} ${JSON.stringify(probe.body).slice(0, 300)}`)
       results.push(await phase('while a robustness job runs', stack, users))
-      const state = probe.body?.jobId ? (await jobState(users[0]!.session, probe.body.jobId)).state : 'unknown'
-      console.log(`  the robustness job was ${state} at the end of the phase`)
+      const checks = (Array.isArray(probe.body) ? probe.body : []) as { kind?: string, jobId?: string | null }[]
+      const states = await Promise.all(checks.map(async c => `${c.kind ?? 'check'} ${c.jobId ? (await jobState(users[0]!.session, c.jobId)).state : 'unknown'}`))
+      console.log(`  the robustness checks at the end of the phase: ${states.join(', ') || 'none listed'}`)
     }
 
     return report(results)

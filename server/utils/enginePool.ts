@@ -136,8 +136,41 @@ function sayRetryAfter() {
   catch { /* no request context */ }
 }
 
-/** Runs one engine task in a thread (or in-process from source); see the module comment. */
-export async function engineTask<K extends EngineTask['kind']>(task: Extract<EngineTask, { kind: K }>): Promise<EngineAnswers[K]> {
+/**
+ * Answers kept by the caller's key, least recently used dropped first. The engine is pure and
+ * seeded, so the same rows and spec give the same answer: a key must name both exactly (see
+ * rowsIdentity()). Each caller gets its own copy, free to change.
+ */
+const answers = new Map<string, Promise<unknown>>()
+const ANSWERS_KEPT = 200
+
+/** A number for a set of rows read once and never changed (e.g. a candidate context's), for answer keys. */
+const rowIds = new WeakMap<object, number>()
+let lastRowsId = 0
+export function rowsIdentity(rows: object): number {
+  let id = rowIds.get(rows)
+  if (id === undefined) rowIds.set(rows, (id = ++lastRowsId))
+  return id
+}
+
+/**
+ * Runs one engine task in a thread (or in-process from source); see the module comment.
+ * With `keep`, the answer is kept under that key and given again (a copy) for the same key.
+ */
+export async function engineTask<K extends EngineTask['kind']>(task: Extract<EngineTask, { kind: K }>, keep?: string): Promise<EngineAnswers[K]> {
+  if (keep === undefined) return computeTask(task)
+  let answer = answers.get(keep)
+  if (answer) answers.delete(keep)
+  else {
+    answer = computeTask(task)
+    answer.catch(() => answers.delete(keep!)) // a refusal or failure is not kept
+    if (answers.size >= ANSWERS_KEPT) answers.delete(answers.keys().next().value!)
+  }
+  answers.set(keep, answer)
+  return structuredClone(await answer) as EngineAnswers[K]
+}
+
+async function computeTask<K extends EngineTask['kind']>(task: Extract<EngineTask, { kind: K }>): Promise<EngineAnswers[K]> {
   const threads = await enginePool()
   if (!threads) return runEngineTask(task) as EngineAnswers[K]
   const transfer = 'rows' in task ? rowBuffers(task.rows) : []

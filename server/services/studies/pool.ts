@@ -11,7 +11,8 @@ import type { z } from 'zod'
 import type { poolPutSchema } from '#shared/schemas/studies'
 import type { SessionUser } from '../../utils/auth'
 import { isEngineError } from '~~/server/engine'
-import { engineTask, packRows } from '~~/server/utils/enginePool'
+import { engineTask, packRows, rowsIdentity } from '~~/server/utils/enginePool'
+import { canonicalJson } from './fingerprint'
 import { assemblePool, candidateContext, poolDecisions, type CandidateContext } from './candidates'
 import { buildRunSpec } from './spec'
 import type { StudyRecord } from './runData'
@@ -68,7 +69,9 @@ export async function previewEstimate(ctx: CandidateContext, pool: string[]) {
   const rows = ctx.data.rows.filter(r => keep.has(r.jurisdiction))
   const periods = [...new Set(rows.map(r => r.period))].sort()
   try {
-    const result = await engineTask({ kind: 'estimate', rows: packRows(rows), spec: buildRunSpec(ctx.study, 'did', {}, pool, periods) }) // in an engine thread
+    const spec = buildRunSpec(ctx.study, 'did', {}, pool, periods)
+    // in an engine thread; kept for the same rows (the context's, chosen by the spec's units) and spec
+    const result = await engineTask({ kind: 'estimate', rows: packRows(rows), spec }, `preview ${rowsIdentity(ctx.data)} ${canonicalJson(spec)}`)
     const inf = result.inference
     return {
       design: 'did' as const,

@@ -12,6 +12,7 @@ import type { RunCreate } from '#shared/schemas/studies'
 import { runCreateSchema } from '#shared/schemas/studies'
 import type { z } from 'zod'
 import { compareRuns } from './compareRuns'
+import { canonicalJson } from './fingerprint'
 import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
 import { readStudyRows } from './rows'
 import { buildRunSpec, isCountModel, laterInterventions, runUsesPool } from './spec'
@@ -73,7 +74,10 @@ export async function createRun(study: StudyRecord, userId: number, input: RunIn
   let fingerprint: string
   try {
     // parse, estimate and fingerprint in an engine thread (server/utils/enginePool.ts)
-    ;({ spec, result, fingerprint } = await engineTask({ kind: 'run', rows: packRows(read.rows), spec: specInput }))
+    // the rows are known by their source and the releases they came from (imported releases never change)
+    const rowsKey = JSON.stringify([source, read.releaseIds])
+    // and the same rows under the same spec give the same answer (the engine is pure and seeded)
+    ;({ spec, result, fingerprint } = await engineTask({ kind: 'run', rows: packRows(read.rows), spec: specInput, rowsKey }, `run ${rowsKey} ${canonicalJson(specInput)}`))
   }
   catch (e) {
     if (isEngineError(e)) badRequest(e.message)

@@ -6,7 +6,8 @@
  * pre-trend slope difference, each with a plain-language reading, and warnings.
  */
 import { isEngineError, type EstimateResult } from '~~/server/engine'
-import { engineTask, packRows } from '~~/server/utils/enginePool'
+import { engineTask, packRows, rowsIdentity } from '~~/server/utils/enginePool'
+import { canonicalJson } from './fingerprint'
 import { parsePeriod, seasonOf } from '#shared/utils/periods'
 import { candidateContext, includedPool, poolDecisions } from './candidates'
 import { OUTCOME } from './rows'
@@ -107,7 +108,8 @@ export async function studyTrends(study: StudyRecord, window?: { from: number, t
     const spec = buildRunSpec(study, 'event_study', window ? { eventWindow: { ...window, reference: -1, bin: true } } : {}, pool, periods)
     const ew = (spec as { eventWindow?: { from: number, to: number } }).eventWindow
     usedWindow = ew ? { from: ew.from, to: ew.to } : null
-    eventStudy = await engineTask({ kind: 'estimate', rows: packRows(rows), spec }) // in an engine thread
+    // in an engine thread; kept for the same rows (the context's, chosen by the spec's units) and spec
+    eventStudy = await engineTask({ kind: 'estimate', rows: packRows(rows), spec }, `trends ${rowsIdentity(ctx.data)} ${canonicalJson(spec)}`)
     warnings.push(...eventStudy.warnings)
   }
   catch (e) {

@@ -7,7 +7,8 @@
  */
 import { Worker } from 'node:worker_threads'
 import { afterEach, describe, expect, it } from 'vitest'
-import { EngineBusyError, engineThreadCount, ThreadPool } from '../../../server/utils/enginePool'
+import { EngineBusyError, engineTask, engineThreadCount, packRows, rowsIdentity, ThreadPool } from '../../../server/utils/enginePool'
+import { estimate } from '../../../server/engine'
 import { EngineError, isEngineError } from '../../../server/engine/errors'
 
 const CODE = `
@@ -92,5 +93,38 @@ describe('engineThreadCount', () => {
     expect(engineThreadCount()).toBe(4)
     process.env.COUNTERPART_ENGINE_THREADS = '1'
     expect(engineThreadCount()).toBe(1)
+  })
+})
+
+describe('engineTask from source (in-process), with kept answers', () => {
+  // a small invented panel: the treated unit drops by 3 from period 5 (known by construction)
+  const rows = ['T', 'A', 'B', 'C'].flatMap((u, k) => [1, 2, 3, 4, 5, 6, 7, 8].map(t => ({
+    jurisdiction: u, period: String(t), values: { outcome: 5 + k + 0.3 * t + ((t + k) % 3) * 0.1 - (u === 'T' && t >= 5 ? 3 : 0) },
+  })))
+  const spec = { design: 'did', unit: 'unit', period: 'period', outcome: 'outcome', treated: ['T'], comparison: ['A', 'B', 'C'], start: 5 }
+  const direct = estimate({ rows: rows.map(r => ({ unit: r.jurisdiction, period: r.period, values: r.values })) }, spec)
+
+  it('gives the engine\'s answer, and a kept answer is a fresh copy each time', async () => {
+    expect(direct.effect.estimate).toBeCloseTo(-3, 0)
+    expect(await engineTask({ kind: 'estimate', rows: packRows(rows), spec })).toEqual(direct)
+    const key = `test ${Math.random()}`
+    const first = await engineTask({ kind: 'estimate', rows: packRows(rows), spec }, key)
+    first.warnings.push('changed by the caller')
+    const again = await engineTask({ kind: 'estimate', rows: packRows(rows), spec: { ...spec, comparison: ['A'] } }, key)
+    // same key: the kept answer (so a key must name the rows and the spec), unchanged by the first caller
+    expect(again).toEqual(direct)
+  })
+
+  it('does not keep a refusal', async () => {
+    const key = `test ${Math.random()}`
+    await expect(engineTask({ kind: 'estimate', rows: packRows(rows), spec: { ...spec, start: 99 } }, key)).rejects.toThrow()
+    expect(await engineTask({ kind: 'estimate', rows: packRows(rows), spec }, key)).toEqual(direct)
+  })
+
+  it('numbers each set of rows once', () => {
+    const a = {}
+    const b = {}
+    expect(rowsIdentity(a)).toBe(rowsIdentity(a))
+    expect(rowsIdentity(a)).not.toBe(rowsIdentity(b))
   })
 })
