@@ -107,6 +107,18 @@ export async function startStack(): Promise<Stack> {
   return { url, databaseUrl, web, worker, stop }
 }
 
+/** CPU seconds used so far by this checkout's PostgreSQL: the postmaster and every backend under it. */
+export function postgresCpuSeconds(): number {
+  try {
+    const postmaster = Number(readFileSync(join(DATA, 'pg/data/postmaster.pid'), 'utf8').split('\n')[0])
+    const children = execFileSync('pgrep', ['-P', String(postmaster)], { encoding: 'utf8' }).trim().split('\n').map(Number).filter(Boolean)
+    return [postmaster, ...children].reduce((sum, pid) => sum + (cpuSeconds(pid) || 0), 0)
+  }
+  catch {
+    return Number.NaN
+  }
+}
+
 /** The node process under scripts/worker.sh (its only child). */
 export function workerNodePid(worker: ChildProcess): number | undefined {
   try {
