@@ -1,6 +1,7 @@
 // Counterpart: Nuxt configuration. Versions and the reasons for each setting are in DEVELOPERS.md.
 import { securityOptions } from './config/security'
 import { uploadThreadPlugin } from './server/build/uploadThread'
+import { engineThreadPlugin } from './server/build/engineThread'
 
 const UPLOAD_LIMIT_BYTES = 100 * 1024 * 1024
 
@@ -47,7 +48,8 @@ export default defineNuxtConfig({
     exportConditions: ['module-sync'],
     experimental: { asyncContext: true },
     // Uploaded files are read in a worker thread bundled on its own (server/build/uploadThread.ts).
-    rollupConfig: { plugins: [uploadThreadPlugin()] },
+    // Estimates requested by the web run in a pool of engine threads (server/build/engineThread.ts).
+    rollupConfig: { plugins: [uploadThreadPlugin(), engineThreadPlugin()] },
     // The engine's numeric loops index typed arrays within bounds they establish themselves;
     // unchecked-index errors there would only add noise.
     typescript: { tsConfig: { compilerOptions: { noUncheckedIndexedAccess: false } } },

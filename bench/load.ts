@@ -15,7 +15,7 @@
  */
 import { cpus, loadavg } from 'node:os'
 import pg from 'pg'
-import { cpuSeconds, rssMb, startStack, workerNodePid, type Stack } from './load/stack'
+import { cpuSeconds, postgresCpuSeconds, rssMb, startStack, workerNodePid, type Stack } from './load/stack'
 import { act, makeAccounts, MIX, pickAction, prepareUser, Session, type Action, type LoadUser } from './load/users'
 
 const USERS = Number(process.env.COUNTERPART_LOAD_USERS ?? 50)
@@ -51,7 +51,7 @@ async function phase(name: string, stack: Stack, users: LoadUser[]) {
     rss.web = Math.max(rss.web, rssMb(stack.web.pid) || 0)
     rss.worker = Math.max(rss.worker, rssMb(workerPid) || 0)
   }, 500)
-  const cpu0 = { web: cpuSeconds(stack.web.pid), worker: cpuSeconds(workerPid) }
+  const cpu0 = { web: cpuSeconds(stack.web.pid), worker: cpuSeconds(workerPid), db: postgresCpuSeconds(), client: process.cpuUsage() }
   const end = Date.now() + SECONDS * 1000
   const t0 = performance.now()
   await Promise.all(users.map(async (user, i) => {
@@ -73,7 +73,8 @@ async function phase(name: string, stack: Stack, users: LoadUser[]) {
   }))
   const wall = (performance.now() - t0) / 1000
   clearInterval(meter)
-  const cpu = { web: cpuSeconds(stack.web.pid) - cpu0.web, worker: cpuSeconds(workerPid) - cpu0.worker }
+  const clientUsage = process.cpuUsage(cpu0.client)
+  const cpu = { web: cpuSeconds(stack.web.pid) - cpu0.web, worker: cpuSeconds(workerPid) - cpu0.worker, db: postgresCpuSeconds() - cpu0.db, client: (clientUsage.user + clientUsage.system) / 1e6 }
   const all = samples.map(s => s.ms).sort((a, b) => a - b)
   const failed = samples.filter(s => !s.ok).length
   const line = (label: string, xs: number[]) => `  ${label.padEnd(11)} ${String(xs.length).padStart(6)} req  p50 ${quantile(xs, 0.5).toFixed(0).padStart(5)} ms  p95 ${quantile(xs, 0.95).toFixed(0).padStart(5)} ms  p99 ${quantile(xs, 0.99).toFixed(0).padStart(5)} ms`
@@ -83,6 +84,8 @@ async function phase(name: string, stack: Stack, users: LoadUser[]) {
   console.log(`  RSS (max)   web ${rss.web.toFixed(0)} MB, worker ${rss.worker.toFixed(0)} MB`)
   // CPU per request is what a busy machine changes least: it says what each request costs the web process
   console.log(`  CPU         web ${cpu.web.toFixed(1)} s (${(1000 * cpu.web / samples.length).toFixed(1)} ms a request, ${(100 * cpu.web / wall).toFixed(0)}% of a core), worker ${cpu.worker.toFixed(1)} s; load average ${loadavg()[0]!.toFixed(1)} on ${cpus().length} cores`)
+  // where else the machine's cores went: the database (backends included) and this benchmark's own users
+  console.log(`              PostgreSQL ${cpu.db.toFixed(1)} s (${(1000 * cpu.db / samples.length).toFixed(1)} ms a request), the benchmark's client ${cpu.client.toFixed(1)} s`)
   for (const [what, n] of errors) console.log(`  error x${n}: ${what}`)
   return { name, p95: quantile(all, 0.95), failed }
 }
@@ -159,8 +162,9 @@ async function main() {
     else {
       if (probe.status >= 400) throw new Error(`robustness: ${probe.status} ${JSON.stringify(probe.body).slice(0, 300)}`)
       results.push(await phase('while a robustness job runs', stack, users))
-      const state = probe.body?.jobId ? (await jobState(users[0]!.session, probe.body.jobId)).state : 'unknown'
-      console.log(`  the robustness job was ${state} at the end of the phase`)
+      const checks = (Array.isArray(probe.body) ? probe.body : []) as { kind?: string, jobId?: string | null }[]
+      const states = await Promise.all(checks.map(async c => `${c.kind ?? 'check'} ${c.jobId ? (await jobState(users[0]!.session, c.jobId)).state : 'unknown'}`))
+      console.log(`  the robustness checks at the end of the phase: ${states.join(', ') || 'none listed'}`)
     }
 
     return report(results)

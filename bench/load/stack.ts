@@ -78,7 +78,7 @@ export async function startStack(): Promise<Stack> {
     cwd: ROOT,
     detached: true,
     stdio: ['ignore', openSync(webLog, 'w'), openSync(webLog, 'a')],
-    env: { ...env, COUNTERPART_ROLE: 'web', HOST: '127.0.0.1', PORT: String(port), NUXT_AUTH_SECRET: 'counterpart-load-secret', AUTH_ORIGIN: `${url}/api/auth`, PUBLIC_ORIGIN: url },
+    env: { ...env, COUNTERPART_ROLE: 'web', HOST: '127.0.0.1', PORT: String(port), NUXT_AUTH_SECRET: 'counterpart-load-benchmark-secret-of-48-characters', AUTH_ORIGIN: `${url}/api/auth`, PUBLIC_ORIGIN: url },
   })
   const socket = join(DATA, 'run/load-worker.sock')
   const worker = spawn('bash', ['scripts/worker.sh'], {
@@ -105,6 +105,18 @@ export async function startStack(): Promise<Stack> {
     throw e
   }
   return { url, databaseUrl, web, worker, stop }
+}
+
+/** CPU seconds used so far by this checkout's PostgreSQL: the postmaster and every backend under it. */
+export function postgresCpuSeconds(): number {
+  try {
+    const postmaster = Number(readFileSync(join(DATA, 'pg/data/postmaster.pid'), 'utf8').split('\n')[0])
+    const children = execFileSync('pgrep', ['-P', String(postmaster)], { encoding: 'utf8' }).trim().split('\n').map(Number).filter(Boolean)
+    return [postmaster, ...children].reduce((sum, pid) => sum + (cpuSeconds(pid) || 0), 0)
+  }
+  catch {
+    return Number.NaN
+  }
 }
 
 /** The node process under scripts/worker.sh (its only child). */

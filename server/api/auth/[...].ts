@@ -25,6 +25,8 @@ function requestAddress(): string {
 export default NuxtAuthHandler({
   secret: authSecret(),
   session: { strategy: 'jwt', maxAge: 12 * 60 * 60 },
+  // next-auth's token format, with the key derived once (server/utils/sessionToken.ts)
+  jwt: { encode: encodeSessionToken, decode: decodeSessionToken },
   pages: { signIn: '/login' },
   providers: [
     CredentialsProvider({

@@ -15,12 +15,13 @@
 import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
 import { and, eq, inArray, lt, or } from 'drizzle-orm'
 import { jurisdictionNeighbours, jurisdictions, policyEvents, studyPoolDecisions, type Study } from '~~/db/schema'
-import { scoreDonors, isEngineError, type DonorScores } from '~~/server/engine'
+import { isEngineError, type DonorScores } from '~~/server/engine'
+import { engineTask, packRows } from '~~/server/utils/enginePool'
 import { comparePeriods, parsePeriod } from '#shared/utils/periods'
 import type { PoolRow } from '#shared/schemas/studies'
 import type { StudyRow } from './fingerprint'
 import type { RowSource } from '~~/db/jsonTypes'
-import { engineRows, readStudyRows, OUTCOME, type StudyRows } from './rows'
+import { readStudyRows, OUTCOME, type StudyRows } from './rows'
 import { studySpecBase, startsOf } from './spec'
 import { poolWeights, type PoolWeights } from './poolWeights'
 import { suggestPool } from './suggestedPool'
@@ -115,7 +116,7 @@ async function buildCandidateContext(study: Study, maxMissing: number): Promise<
   if (!candidates.length) badRequest(`No other jurisdiction has ${study.outcome} data to compare with.`)
   let scores: DonorScores
   try {
-    scores = scoreDonors({ rows: engineRows(data.rows) }, { ...studySpecBase(study), design: 'did', comparison: candidates })
+    scores = await engineTask({ kind: 'scoreDonors', rows: packRows(data.rows), spec: { ...studySpecBase(study), design: 'did', comparison: candidates } }) // in an engine thread
   }
   catch (e) {
     if (isEngineError(e)) badRequest(e.message)
@@ -253,12 +254,19 @@ export function assemblePool(ctx: CandidateContext, decisions: { jurisdiction: s
   }
 }
 
+/** Each unit's pre-period means per key, kept with the context's rows (they never change once read). */
+const unitMeansMemo = new WeakMap<StudyRows, Map<string, Map<string, number>>>()
+
 /** Pre-period means of the outcome and each covariate: treated units against the pool. */
 export function balance(ctx: CandidateContext, pool: string[]): BalanceRow[] {
   const keys = [OUTCOME, ...ctx.study.covariates]
   const inPool = new Set(pool)
   const treated = new Set(ctx.study.treated)
+  let memo = unitMeansMemo.get(ctx.data)
+  if (!memo) unitMeansMemo.set(ctx.data, (memo = new Map()))
   const unitMeans = (rows: StudyRow[], key: string) => {
+    const known = memo.get(`${key}\u0000${[...ctx.prePeriods].join(',')}`)
+    if (known) return known
     const acc = new Map<string, [number, number]>()
     for (const r of rows) {
       const v = r.values[key]
@@ -268,7 +276,9 @@ export function balance(ctx: CandidateContext, pool: string[]): BalanceRow[] {
       a[1]++
       acc.set(r.jurisdiction, a)
     }
-    return new Map([...acc].map(([u, [s, n]]) => [u, s / n]))
+    const means = new Map([...acc].map(([u, [s, n]]) => [u, s / n]))
+    memo.set(`${key}\u0000${[...ctx.prePeriods].join(',')}`, means)
+    return means
   }
   const mean = (xs: number[]) => (xs.length ? xs.reduce((a, b) => a + b, 0) / xs.length : null)
   return keys.map((key) => {

@@ -10,9 +10,10 @@ import { jurisdictions, studies, studyPoolDecisions, type Study } from '~~/db/sc
 import type { z } from 'zod'
 import type { poolPutSchema } from '#shared/schemas/studies'
 import type { SessionUser } from '../../utils/auth'
-import { estimate, isEngineError } from '~~/server/engine'
+import { isEngineError } from '~~/server/engine'
+import { engineTask, packRows, rowsIdentity } from '~~/server/utils/enginePool'
+import { canonicalJson } from './fingerprint'
 import { assemblePool, candidateContext, poolDecisions, type CandidateContext } from './candidates'
-import { engineRows } from './rows'
 import { buildRunSpec } from './spec'
 
 export async function savePool(study: Study, user: SessionUser, body: z.output<typeof poolPutSchema>, k = SUGGESTED_POOL_SIZE) {
@@ -48,7 +49,7 @@ export async function savePool(study: Study, user: SessionUser, body: z.output<t
     })
   })
   const pool = assemblePool(ctx, await poolDecisions(study.id), k)
-  return { ...pool, preview: previewEstimate(ctx, pool.rows.filter(r => r.included).map(r => r.jurisdiction)) }
+  return { ...pool, preview: await previewEstimate(ctx, pool.rows.filter(r => r.included).map(r => r.jurisdiction)) }
 }
 
 /**
@@ -60,14 +61,16 @@ export async function savePool(study: Study, user: SessionUser, body: z.output<t
  * 19 comparison units for one treated unit). `inference` says which method stands behind p
  * and the interval, and why.
  */
-export function previewEstimate(ctx: CandidateContext, pool: string[]) {
+export async function previewEstimate(ctx: CandidateContext, pool: string[]) {
   const none = (error: string) => ({ design: 'did' as const, effect: null, nClusters: null, inference: null, warnings: [] as string[], error })
   if (!pool.length) return none('The pool is empty.')
   const keep = new Set([...ctx.study.treated, ...pool])
   const rows = ctx.data.rows.filter(r => keep.has(r.jurisdiction))
   const periods = [...new Set(rows.map(r => r.period))].sort()
   try {
-    const result = estimate({ rows: engineRows(rows) }, buildRunSpec(ctx.study, 'did', {}, pool, periods))
+    const spec = buildRunSpec(ctx.study, 'did', {}, pool, periods)
+    // in an engine thread; kept for the same rows (the context's, chosen by the spec's units) and spec
+    const result = await engineTask({ kind: 'estimate', rows: packRows(rows), spec }, `preview ${rowsIdentity(ctx.data)} ${canonicalJson(spec)}`)
     const inf = result.inference
     return {
       design: 'did' as const,

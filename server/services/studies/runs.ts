@@ -7,14 +7,15 @@
 import { and, desc, eq, lt } from 'drizzle-orm'
 import { studyRuns, users, type Study, type StudyRun } from '~~/db/schema'
 import type { RunData } from '~~/db/jsonTypes'
-import { estimate, isEngineError, parseSpec, type EstimateResult, type Spec } from '~~/server/engine'
+import { isEngineError, type EstimateResult, type Spec } from '~~/server/engine'
+import { engineTask, packRows } from '~~/server/utils/enginePool'
 import type { RunCreate } from '#shared/schemas/studies'
 import { runCreateSchema } from '#shared/schemas/studies'
 import type { z } from 'zod'
-import { fingerprintRows } from './fingerprint'
 import { compareRuns } from './compareRuns'
+import { canonicalJson } from './fingerprint'
 import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
-import { engineRows, readStudyRows } from './rows'
+import { readStudyRows } from './rows'
 import { buildRunSpec, isCountModel, laterInterventions, runUsesPool } from './spec'
 
 type RunInput = z.output<typeof runCreateSchema>
@@ -70,9 +71,13 @@ export async function createRun(study: Study, userId: number, input: RunInput | 
   const specInput = buildRunSpec(study, design, options, comparison, periods)
   let result: EstimateResult
   let spec: Spec
+  let fingerprint: string
   try {
-    spec = parseSpec(specInput)
-    result = estimate({ rows: engineRows(read.rows) }, spec)
+    // parse, estimate and fingerprint in an engine thread (server/utils/enginePool.ts)
+    // the rows are known by their source and the releases they came from (imported releases never change)
+    const rowsKey = JSON.stringify([source, read.releaseIds])
+    // and the same rows under the same spec give the same answer (the engine is pure and seeded)
+    ;({ spec, result, fingerprint } = await engineTask({ kind: 'run', rows: packRows(read.rows), spec: specInput, rowsKey }, `run ${rowsKey} ${canonicalJson(specInput)}`))
   }
   catch (e) {
     if (isEngineError(e)) badRequest(e.message)
@@ -86,7 +91,6 @@ export async function createRun(study: Study, userId: number, input: RunInput | 
   if (design === 'did' && later.length && !phases?.length) {
     result.warnings.push(`The treated period spans a later intervention (${later.map(l => `${l.label}, ${l.period}`).join('; ')}): this estimate averages over it. Choose "each intervention separately" to estimate each phase.`)
   }
-  const fingerprint = fingerprintRows(read.rows, spec)
   const data: RunData = { source, frequency: read.frequency, releases: read.releases, pool: assemblePool(ctx, decisions).rows }
   const db = useDb()
   const id = await db.transaction(async (tx) => {

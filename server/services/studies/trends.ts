@@ -5,10 +5,12 @@
  * marks, and the event study (engine design "event_study") with its joint lead test and
  * pre-trend slope difference, each with a plain-language reading, and warnings.
  */
-import { estimate, isEngineError, type EstimateResult } from '~~/server/engine'
+import { isEngineError, type EstimateResult } from '~~/server/engine'
+import { engineTask, packRows, rowsIdentity } from '~~/server/utils/enginePool'
+import { canonicalJson } from './fingerprint'
 import { parsePeriod, seasonOf } from '#shared/utils/periods'
 import { candidateContext, includedPool, poolDecisions } from './candidates'
-import { engineRows, OUTCOME } from './rows'
+import { OUTCOME } from './rows'
 import { buildRunSpec, startsOf } from './spec'
 import type { Study } from '~~/db/schema'
 
@@ -106,7 +108,8 @@ export async function studyTrends(study: Study, window?: { from: number, to: num
     const spec = buildRunSpec(study, 'event_study', window ? { eventWindow: { ...window, reference: -1, bin: true } } : {}, pool, periods)
     const ew = (spec as { eventWindow?: { from: number, to: number } }).eventWindow
     usedWindow = ew ? { from: ew.from, to: ew.to } : null
-    eventStudy = estimate({ rows: engineRows(rows) }, spec)
+    // in an engine thread; kept for the same rows (the context's, chosen by the spec's units) and spec
+    eventStudy = await engineTask({ kind: 'estimate', rows: packRows(rows), spec }, `trends ${rowsIdentity(ctx.data)} ${canonicalJson(spec)}`)
     warnings.push(...eventStudy.warnings)
   }
   catch (e) {

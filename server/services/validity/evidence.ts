@@ -13,7 +13,8 @@
 import { THREATS } from '#shared/schemas/validity'
 import type { ThreatEvidence } from '#shared/engine/threats'
 import { isEngineError } from '~~/server/engine'
-import { threatEvidence, type RevisedCell } from '~~/server/engine/threats'
+import type { RevisedCell } from '~~/server/engine/threats'
+import { engineTask } from '~~/server/utils/enginePool'
 import { candidateContext, includedPool, poolDecisions } from '../studies/candidates'
 import { OUTCOME } from '../studies/rows'
 import { studyTrends } from '../studies/trends'
@@ -77,7 +78,7 @@ export async function studyEvidence(study: Study): Promise<StudyEvidence> {
   const revisions = await revisedCells(measures, [...study.treated, ...pool, ...neighbours], ctx.source.from, ctx.source.to)
   let evidence: ThreatEvidence[]
   try {
-    evidence = threatEvidence({
+    evidence = await engineTask({ kind: 'threatEvidence', input: { // in an engine thread
       series: { periods, nPre, treated: toSeries(trends.treated.levels), pool: toSeries(trends.pool.levels) },
       treatedUnits: study.treated,
       leads: { points: trends.eventStudy, placeboP: trends.leadTest.placebo?.p ?? null, waldP: trends.leadTest.wald?.p ?? null, waldReliable: trends.leadTest.fReliable },
@@ -85,7 +86,7 @@ export async function studyEvidence(study: Study): Promise<StudyEvidence> {
       candidates: ctx.candidates.filter(c => byUnit.has(c)).map(seriesOf),
       neighbours: neighbours.map(seriesOf),
       distant: pool.filter(c => !isNeighbour.has(c)).map(seriesOf),
-    })
+    } })
   }
   catch (e) {
     if (isEngineError(e)) badRequest(e.message)
