@@ -1,7 +1,6 @@
 // Counterpart: Nuxt configuration. Versions and the reasons for each setting are in DEVELOPERS.md.
 import { securityOptions } from './config/security'
-import { uploadThreadPlugin } from './server/build/uploadThread'
-import { engineThreadPlugin } from './server/build/engineThread'
+import { threadBundlePlugin } from './server/build/threadBundle'
 
 const UPLOAD_LIMIT_BYTES = 100 * 1024 * 1024
 
@@ -47,9 +46,12 @@ export default defineNuxtConfig({
   nitro: {
     exportConditions: ['module-sync'],
     experimental: { asyncContext: true },
-    // Uploaded files are read in a worker thread bundled on its own (server/build/uploadThread.ts).
-    // Estimates requested by the web run in a pool of engine threads (server/build/engineThread.ts).
-    rollupConfig: { plugins: [uploadThreadPlugin(), engineThreadPlugin()] },
+    // Uploaded files are read in a worker thread bundled on its own (server/build/threadBundle.ts).
+    // Estimates requested by the web run in a pool of engine threads (server/build/threadBundle.ts).
+    rollupConfig: { plugins: [
+      threadBundlePlugin('upload-thread', 'server/services/uploads/uploadThread.ts'),
+      threadBundlePlugin('engine-thread', 'server/services/engineThread/entry.ts'),
+    ] },
     // The engine's numeric loops index typed arrays within bounds they establish themselves;
     // unchecked-index errors there would only add noise.
     typescript: { tsConfig: { compilerOptions: { noUncheckedIndexedAccess: false } } },

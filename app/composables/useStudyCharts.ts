@@ -7,7 +7,7 @@ import {
   BarController, BarElement, CategoryScale, Chart, Filler, Legend, LinearScale, LineController, LineElement, PointElement, ScatterController, Tooltip,
   type Plugin,
 } from 'chart.js'
-import type { StaggeredPalette } from '~/utils/reportCharts'
+import { drawPeriodMarks, type StaggeredPalette } from '~/utils/reportCharts'
 
 export interface PeriodMark { index: number, label: string }
 
@@ -15,24 +15,7 @@ const periodMarks: Plugin = {
   id: 'periodMarks',
   afterDatasetsDraw(chart, _args, options) {
     const marks = (options as { marks?: PeriodMark[] }).marks ?? []
-    const x = chart.scales.x
-    const { top, bottom } = chart.chartArea
-    if (!x) return
-    const ctx = chart.ctx
-    ctx.save()
-    ctx.strokeStyle = '#b1502b'
-    ctx.fillStyle = '#8e3d1f'
-    ctx.setLineDash([4, 3])
-    ctx.font = '11px "Source Sans 3", sans-serif'
-    marks.forEach((m, k) => {
-      const px = x.getPixelForValue(m.index)
-      ctx.beginPath()
-      ctx.moveTo(px, top)
-      ctx.lineTo(px, bottom)
-      ctx.stroke()
-      ctx.fillText(m.label, px + 3, top + 11 + 12 * (k % 3))
-    })
-    ctx.restore()
+    drawPeriodMarks(chart, marks)
   },
 }
 

@@ -5,35 +5,40 @@
  * simultaneous band, the group-time effects by cohort and the two-by-two comparisons of a
  * two-way estimate. Pure: returns chart.js configurations, draws nothing.
  */
-import type { ChartConfiguration, Plugin, PointStyle } from 'chart.js'
+import type { Chart, ChartConfiguration, Plugin, PointStyle } from 'chart.js'
 import type { DecompositionRow, EventStudyPoint, GroupTimeCell, StaggeredResult } from '#shared/engine/result'
 import { type DecompositionPoint, type DecompositionType, type GroupTimeAxis, cohortLines, decompositionGroups, decompositionSummary, eventTimeSeries } from './staggeredCharts'
 
 export const CHART_COLOURS = { treated: '#b1502b', comparison: '#2d6b5f', band: 'rgba(45,107,95,0.18)', zero: '#8a9499' }
 
-/** A dashed vertical line with its label at each marked period (policy start, later interventions). */
+/** Draws a dashed vertical line with its label at each marked period (policy start, later interventions). */
+export function drawPeriodMarks(chart: Chart, marks: readonly { index: number, label: string }[]): void {
+  const x = chart.scales.x
+  if (!x) return
+  const { top, bottom } = chart.chartArea
+  const ctx = chart.ctx
+  ctx.save()
+  ctx.strokeStyle = CHART_COLOURS.treated
+  ctx.fillStyle = '#8e3d1f'
+  ctx.setLineDash([4, 3])
+  ctx.font = '11px "Source Sans 3", sans-serif'
+  marks.forEach((m, k) => {
+    const px = x.getPixelForValue(m.index)
+    ctx.beginPath()
+    ctx.moveTo(px, top)
+    ctx.lineTo(px, bottom)
+    ctx.stroke()
+    ctx.fillText(m.label, px + 3, top + 11 + 12 * (k % 3))
+  })
+  ctx.restore()
+}
+
+/** The report's plugin for those marks. */
 export function periodMarksPlugin(marks: readonly { index: number, label: string }[]): Plugin<'line'> {
   return {
     id: 'reportPeriodMarks',
     afterDatasetsDraw(chart) {
-      const x = chart.scales.x
-      if (!x) return
-      const { top, bottom } = chart.chartArea
-      const ctx = chart.ctx
-      ctx.save()
-      ctx.strokeStyle = CHART_COLOURS.treated
-      ctx.fillStyle = '#8e3d1f'
-      ctx.setLineDash([4, 3])
-      ctx.font = '11px "Source Sans 3", sans-serif'
-      marks.forEach((m, k) => {
-        const px = x.getPixelForValue(m.index)
-        ctx.beginPath()
-        ctx.moveTo(px, top)
-        ctx.lineTo(px, bottom)
-        ctx.stroke()
-        ctx.fillText(m.label, px + 3, top + 11 + 12 * (k % 3))
-      })
-      ctx.restore()
+      drawPeriodMarks(chart, marks)
     },
   }
 }

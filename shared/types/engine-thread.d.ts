@@ -1,4 +1,4 @@
-/** The engine thread's bundle URL (server/build/engineThread.ts); missing when running from source. */
+/** The engine thread's bundle URL (server/build/threadBundle.ts); missing when running from source. */
 declare module '#engine-thread' {
   const url: string
   export default url

@@ -1,4 +1,4 @@
-/** The URL of the bundled upload thread (server/build/uploadThread.ts makes it at build time). */
+/** The URL of the bundled upload thread (server/build/threadBundle.ts makes it at build time). */
 declare module '#upload-thread' {
   const url: string
   export default url

@@ -3,7 +3,7 @@
  * { id, task } message with { id, value } or { id, error }, one at a time, so long estimates
  * run away from the web process's event loop. An engine refusal travels as its code, message
  * and issues and is thrown again as an EngineError on the other side. Bundled on its own at
- * build time (server/build/engineThread.ts): starting it never loads the server.
+ * build time (server/build/threadBundle.ts): starting it never loads the server.
  */
 import { parentPort, workerData } from 'node:worker_threads'
 import { isEngineError } from '../../engine'

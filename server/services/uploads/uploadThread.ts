@@ -1,7 +1,7 @@
 /**
  * Entry of the upload thread: runs checkUpload() on the request in workerData and posts the
  * result back, so a large or hostile file is parsed away from the server's event loop (and
- * within the thread's own memory limit). Bundled on its own at build time (server/build/uploadThread.ts).
+ * within the thread's own memory limit). Bundled on its own at build time (server/build/threadBundle.ts).
  */
 import { parentPort, workerData } from 'node:worker_threads'
 import { checkUpload, type CheckRequest } from './checkUpload'
