@@ -15,26 +15,15 @@ import path from 'node:path'
 import { fileURLToPath } from 'node:url'
 import { bundlePath, ensureCliBundle } from '../cli/bundle.mjs'
 import { type BenchFigure, medianMs } from './index'
+import { uniforms } from './uniforms'
 
 const here = path.dirname(fileURLToPath(import.meta.url))
 const UNITS = 3000
 const PERIODS = 240
 const RUNS = 3
 
-/** Small deterministic generator (mulberry32). */
-function rng(seed: number): () => number {
-  let a = seed >>> 0
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0
-    let t = a
-    t = Math.imul(t ^ (t >>> 15), t | 1)
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61)
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296
-  }
-}
-
 function panelCsv(): string {
-  const r = rng(2)
+  const r = uniforms(2)
   const parts = ['unit,period,outcome,treat\n']
   for (let u = 0; u < UNITS; u++) {
     const level = 50 + 10 * r()

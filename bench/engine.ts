@@ -29,21 +29,10 @@ import { groupTimeEffects, supTCritical } from '../server/engine/designs/stagger
 import { baconDecomposition } from '../server/engine/bacon'
 import type { TypedRow } from '../server/engine/panel'
 import { type BenchFigure, medianMs } from './index'
-
-/** Small deterministic generator (mulberry32). */
-function rng(seed: number): () => number {
-  let a = seed >>> 0
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0
-    let t = a
-    t = Math.imul(t ^ (t >>> 15), t | 1)
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61)
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296
-  }
-}
+import { uniforms } from './uniforms'
 
 function panelRows(nUnits: number, nPeriods: number, start: (u: number) => number | null, seed: number): TypedRow[] {
-  const r = rng(seed)
+  const r = uniforms(seed)
   const rows: TypedRow[] = new Array(nUnits * nPeriods)
   for (let u = 0; u < nUnits; u++) {
     const level = 50 + 10 * r()

@@ -17,6 +17,7 @@ import { cpus, loadavg } from 'node:os'
 import pg from 'pg'
 import { cpuSeconds, postgresCpuSeconds, rssMb, startStack, workerNodePid, type Stack } from './load/stack'
 import { act, makeAccounts, MIX, pickAction, prepareUser, Session, type Action, type LoadUser } from './load/users'
+import { uniforms } from './uniforms'
 
 const USERS = Number(process.env.COUNTERPART_LOAD_USERS ?? 50)
 const SECONDS = Number(process.env.COUNTERPART_LOAD_SECONDS ?? 30)
@@ -28,18 +29,6 @@ interface Sample { action: Action, ms: number, ok: boolean }
 function quantile(sorted: number[], q: number): number {
   if (!sorted.length) return Number.NaN
   return sorted[Math.min(sorted.length - 1, Math.ceil(q * sorted.length) - 1)]!
-}
-
-/** A seeded generator (mulberry32), so each run sends the same mix. */
-function random(seed: number) {
-  let a = seed >>> 0
-  return () => {
-    a = (a + 0x6D2B79F5) >>> 0
-    let t = a
-    t = Math.imul(t ^ (t >>> 15), t | 1)
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61)
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296
-  }
 }
 
 async function phase(name: string, stack: Stack, users: LoadUser[]) {
@@ -55,7 +44,7 @@ async function phase(name: string, stack: Stack, users: LoadUser[]) {
   const end = Date.now() + SECONDS * 1000
   const t0 = performance.now()
   await Promise.all(users.map(async (user, i) => {
-    const r = random(1000 * (i + 1) + name.length)
+    const r = uniforms(1000 * (i + 1) + name.length)
     while (Date.now() < end) {
       const action = pickAction(r())
       const start = performance.now()
