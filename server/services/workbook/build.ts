@@ -176,31 +176,46 @@ export const VCOV_LABELS: Record<string, string> = {
   influence: 'Influence functions (unit sampling)',
 }
 
-function summary(wb: Book, input: WorkbookInput) {
-  const { study, run } = input
-  const r = run.result
+/** A Summary sheet: the title row, then label / value rows written by `add`. */
+export function summarySheet(wb: Book, title: string, labelWidth: number) {
   const ws = wb.addWorksheet('Summary', { views: [{ state: 'frozen', ySplit: 1 }] })
-  ws.columns = [{ width: 34 }, { width: 90 }]
-  line(ws, [safeText(study.title), null], (title) => { title.font = { bold: true, size: 14 } })
+  ws.columns = [{ width: labelWidth }, { width: 90 }]
+  line(ws, [safeText(title), null], (row) => { row.font = { bold: true, size: 14 } })
   const add = (label: string, value: CellValue, format?: string) => line(ws, [label, cellValue(value)], (row) => {
     row.getCell(1).font = { bold: true }
     if (format) row.getCell(2).numFmt = format
     row.getCell(2).alignment = { ...wrapTop, horizontal: 'left' }
   })
+  return { ws, add }
+}
+
+/** The study's own lines of a Summary (both workbooks): question, version, review, outcome, units, dates. */
+export function studyFacts(add: (label: string, value: CellValue) => void, study: WorkbookInput['study'], extra: { run?: number, periods?: string | null } = {}) {
   add('Question', study.question ?? '')
   add('Study', `#${study.id}, version ${study.version} (${study.status.replace('_', ' ')})`)
   add('Review', study.approval ? `Approved by ${study.approval.by} on ${iso(study.approval.at)}; locked` : 'Not approved: these figures may still change')
-  add('Run', `#${run.id}`)
+  if (extra.run !== undefined) add('Run', `#${extra.run}`)
   add('Outcome', study.outcomeLabel ? `${study.outcomeLabel} (${study.outcome})` : study.outcome)
   add('Transform', study.transform)
   add('Treated units', study.treated.join(', '))
   add('Policy start', formatStart(study.start))
-  const periods = input.rows.map(row => String(row.period)).sort()
-  if (periods.length) add('Periods in the data', `${periods[0]} to ${periods[periods.length - 1]}`)
+  if (extra.periods) add('Periods in the data', extra.periods)
   if (study.window) {
     add('Pre-period', `${study.window.pre[0]} to ${study.window.pre[1]}`)
     add('Post-period', `${study.window.post[0]} to ${study.window.post[1]}`)
   }
+}
+
+function periodSpan(rows: WorkbookPanelRow[]): string | null {
+  const periods = rows.map(row => String(row.period)).sort()
+  return periods.length ? `${periods[0]} to ${periods[periods.length - 1]}` : null
+}
+
+function summary(wb: Book, input: WorkbookInput) {
+  const { study, run } = input
+  const r = run.result
+  const { ws, add } = summarySheet(wb, study.title, 34)
+  studyFacts(add, study, { run: run.id, periods: periodSpan(input.rows) })
   add('Design', designLabel(run.design))
   add('Standard errors', VCOV_LABELS[r.vcov] ?? r.vcov)
   line(ws, [])
@@ -230,10 +245,23 @@ function summary(wb: Book, input: WorkbookInput) {
 }
 
 /** Term names with the interventions' own labels and dates (level_2 -> "Strengthening (2020-01): change in level"). */
-function labelsOf(input: WorkbookInput): Record<string, string> {
-  const interventions = input.study.interventions ?? []
-  return termLabels(breaksOfSpec(input.run.spec), interventions, 'Start of the policy')
+/** Term names in words for a run of the study (both workbooks). */
+export function runTermLabels(spec: Record<string, unknown>, study: WorkbookInput['study']): Record<string, string> {
+  return termLabels(breaksOfSpec(spec), study.interventions ?? [], 'Start of the policy')
 }
+
+function labelsOf(input: WorkbookInput): Record<string, string> {
+  return runTermLabels(input.run.spec, input.study)
+}
+
+/** The test columns of a coefficient table (both workbooks). */
+export const TEST_COLUMNS: Column[] = [
+  { header: 't', width: 10, format: FORMATS.stat },
+  { header: 'df', width: 8, format: FORMATS.count },
+  { header: 'p-value', width: 10, format: FORMATS.p },
+  { header: '95% low', width: 14, format: FORMATS.estimate },
+  { header: '95% high', width: 14, format: FORMATS.estimate },
+]
 
 function coefficients(wb: Book, r: EstimateResult, labels: Record<string, string>) {
   return table(wb, 'Coefficients', [
@@ -242,11 +270,7 @@ function coefficients(wb: Book, r: EstimateResult, labels: Record<string, string
     { header: 'Estimate', width: 14, format: FORMATS.estimate },
     { header: 'Standard error', width: 16, format: FORMATS.estimate },
     { header: 'Classical SE', width: 14, format: FORMATS.estimate },
-    { header: 't', width: 10, format: FORMATS.stat },
-    { header: 'df', width: 8, format: FORMATS.count },
-    { header: 'p-value', width: 10, format: FORMATS.p },
-    { header: '95% low', width: 14, format: FORMATS.estimate },
-    { header: '95% high', width: 14, format: FORMATS.estimate },
+    ...TEST_COLUMNS,
   ], Object.entries(r.coefficients).map(([name, c]) => [name, labels[name] ?? '', c.estimate, c.se, c.seIid, c.t, c.df, c.p, c.ciLow, c.ciHigh]))
 }
 

@@ -12,11 +12,11 @@
 import type { EstimateResult } from '../../../shared/engine/result'
 import { STANDING_CAUTIONS } from '../../../shared/delivery/cautions'
 import { designLabel } from '../../../shared/delivery/labels'
-import { breaksOfSpec, inferenceText, termLabels } from '../../../shared/delivery/inference'
+import { inferenceText } from '../../../shared/delivery/inference'
 import { warningText } from '../../../shared/delivery/warnings'
 import {
   type Book, type CellValue, FORMATS, VCOV_LABELS, type WorkbookInput, type WorkbookPoolRow, type WorkbookValidityNote,
-  cellValue, donorPool, formatStart, line, safeText, table, validity, writeBook,
+  TEST_COLUMNS, donorPool, line, runTermLabels, safeText, studyFacts, summarySheet, table, validity, writeBook,
 } from './build'
 
 export interface StudyBookRun {
@@ -43,31 +43,12 @@ export const STUDY_SHEETS = ['Summary', 'Runs', 'Coefficients', 'Donor pool', 'V
 
 const iso = (d: Date | string | null) => (d == null ? null : new Date(d).toISOString())
 
-function labelsOf(study: StudyBookInput['study'], run: StudyBookRun): Record<string, string> {
-  return termLabels(breaksOfSpec(run.spec), study.interventions ?? [], 'Start of the policy')
-}
+const labelsOf = (study: StudyBookInput['study'], run: StudyBookRun) => runTermLabels(run.spec, study)
 
 function summary(wb: Book, input: StudyBookInput) {
   const { study } = input
-  const ws = wb.addWorksheet('Summary', { views: [{ state: 'frozen', ySplit: 1 }] })
-  ws.columns = [{ width: 30 }, { width: 90 }]
-  line(ws, [safeText(study.title), null], (title) => { title.font = { bold: true, size: 14 } })
-  const add = (label: string, value: CellValue, format?: string) => line(ws, [label, cellValue(value)], (row) => {
-    row.getCell(1).font = { bold: true }
-    if (format) row.getCell(2).numFmt = format
-    row.getCell(2).alignment = { wrapText: true, vertical: 'top', horizontal: 'left' }
-  })
-  add('Question', study.question ?? '')
-  add('Study', `#${study.id}, version ${study.version} (${study.status.replace('_', ' ')})`)
-  add('Review', study.approval ? `Approved by ${study.approval.by} on ${iso(study.approval.at)}; locked` : 'Not approved: these figures may still change')
-  add('Outcome', study.outcomeLabel ? `${study.outcomeLabel} (${study.outcome})` : study.outcome)
-  add('Transform', study.transform)
-  add('Treated units', study.treated.join(', '))
-  add('Policy start', formatStart(study.start))
-  if (study.window) {
-    add('Pre-period', `${study.window.pre[0]} to ${study.window.pre[1]}`)
-    add('Post-period', `${study.window.post[0]} to ${study.window.post[1]}`)
-  }
+  const { ws, add } = summarySheet(wb, study.title, 30)
+  studyFacts(add, study)
   add('Runs in this workbook', input.runs.length, FORMATS.count)
   add('Workbook made by', input.generated.by)
   add('Workbook made at', input.generated.at.toISOString())
@@ -130,11 +111,7 @@ function coefficients(wb: Book, input: StudyBookInput) {
     { header: 'Meaning', width: 44 },
     { header: 'Estimate', width: 14, format: FORMATS.estimate },
     { header: 'Standard error', width: 16, format: FORMATS.estimate },
-    { header: 't', width: 10, format: FORMATS.stat },
-    { header: 'df', width: 8, format: FORMATS.count },
-    { header: 'p-value', width: 10, format: FORMATS.p },
-    { header: '95% low', width: 14, format: FORMATS.estimate },
-    { header: '95% high', width: 14, format: FORMATS.estimate },
+    ...TEST_COLUMNS,
   ], rows())
 }
 
