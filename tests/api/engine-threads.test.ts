@@ -15,6 +15,7 @@ import { runTag } from '../support/uploads'
 import { readRowsBack } from '../support/studies'
 import { estimate } from '../../server/engine'
 import { fingerprintRows } from '../../server/services/studies/fingerprint'
+import { demoStudyPayload } from '../support/demoStudy'
 
 let analyst: Client
 let studyId: number
@@ -30,16 +31,7 @@ async function directly(run: { id: number, spec: unknown }) {
 
 beforeAll(async () => {
   analyst = await as('analyst')
-  const study = await analyst.post('/api/studies', {
-    title: `Engine threads ${tag}`,
-    question: 'Did mediation before an eviction filing lower filings in VM-BR-04?',
-    outcome: 'eviction_filings',
-    transform: 'rate',
-    denominator: 'renter_households',
-    treated: ['VM-BR-04'],
-    start: '2017-07',
-    window: { pre: ['2014-01', '2017-06'], post: ['2017-07', '2019-12'] },
-  })
+  const study = await analyst.post('/api/studies', demoStudyPayload(`Engine threads ${tag}`))
   expect(study.status, JSON.stringify(study.body)).toBe(201)
   studyId = study.body.id
 })

@@ -6,8 +6,9 @@
  */
 import type { Client } from './http'
 
-export async function demoStudyWithRun(analyst: Client, title: string): Promise<{ studyId: number, run: any }> {
-  const study = await analyst.post('/api/studies', {
+/** The demo's eviction-filing study of VM-BR-04 (a rate, monthly, adopted 2017-07). */
+export function demoStudyPayload(title: string) {
+  return {
     title,
     question: 'Did mediation before an eviction filing lower filings in VM-BR-04?',
     outcome: 'eviction_filings',
@@ -16,7 +17,11 @@ export async function demoStudyWithRun(analyst: Client, title: string): Promise<
     treated: ['VM-BR-04'],
     start: '2017-07',
     window: { pre: ['2014-01', '2017-06'], post: ['2017-07', '2019-12'] },
-  })
+  }
+}
+
+export async function demoStudyWithRun(analyst: Client, title: string): Promise<{ studyId: number, run: any }> {
+  const study = await analyst.post('/api/studies', demoStudyPayload(title))
   if (study.status !== 201) throw new Error(`study: ${study.status} ${JSON.stringify(study.body).slice(0, 300)}`)
   const run = await analyst.post(`/api/studies/${study.body.id}/runs`, { design: 'did' })
   if (run.status !== 201) throw new Error(`run: ${run.status} ${JSON.stringify(run.body).slice(0, 300)}`)
