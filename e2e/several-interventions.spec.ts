@@ -1,6 +1,6 @@
 import ExcelJS from 'exceljs'
 import { expect, test } from '@playwright/test'
-import { signInAs, snap } from './support/auth'
+import { gotoHydrated, signInAs, snap } from './support/auth'
 
 /**
  * One adopter, two interventions, against a comparison: the analyst picks the adoption and the
@@ -12,7 +12,7 @@ test('an analyst estimates each intervention against the weighted comparison and
   test.setTimeout(120_000)
   const title = `Mediation and its extension ${Date.now().toString(36)}`
   await signInAs(page, 'analyst')
-  await page.goto('/studies/new')
+  await gotoHydrated(page, '/studies/new')
   await page.getByLabel('Title').fill(title)
   await page.getByLabel('Outcome measure').selectOption('eviction_filing_rate')
   await page.getByLabel('Treated jurisdictions').fill('VM-BR-04')

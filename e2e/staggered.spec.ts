@@ -1,5 +1,5 @@
 import { expect, test } from '@playwright/test'
-import { signInAs, snap } from './support/auth'
+import { gotoHydrated, signInAs, snap } from './support/auth'
 
 /**
  * Adoption at different times: the demo's four adopters as one study. The Estimates step offers
@@ -10,7 +10,7 @@ test('an analyst studies four adopters with different starts: group-time effects
   test.setTimeout(150_000)
   const adopters: [string, string][] = [['VM-BR-04', '2017-07'], ['VM-HO-07', '2019-04'], ['VM-SA-02', '2021-01'], ['VM-KE-09', '2022-10']]
   await signInAs(page, 'analyst')
-  await page.goto('/studies/new')
+  await gotoHydrated(page, '/studies/new')
   await page.getByLabel('Title').fill(`Four adopters ${Date.now().toString(36)}`)
   await page.getByLabel('Outcome measure').selectOption('eviction_filing_rate')
   await page.getByLabel(/Treated jurisdictions/).fill(adopters.map(a => a[0]).join(', '))

@@ -26,3 +26,15 @@ export async function signOut(page: Page): Promise<void> {
 export async function snap(page: Page, name: string): Promise<void> {
   await page.screenshot({ path: `test-results/screens/${name}.png`, fullPage: true })
 }
+
+/**
+ * Opens a page and waits until Vue has hydrated it (Nuxt's isHydrating is false), so that what
+ * the test types or selects next is not reset by hydration of the server-rendered form.
+ */
+export async function gotoHydrated(page: Page, path: string): Promise<void> {
+  await page.goto(path)
+  await page.waitForFunction(() => {
+    const app = (document.getElementById('__nuxt') as unknown as { __vue_app__?: { config: { globalProperties: { $nuxt?: { isHydrating?: boolean } } } } } | null)?.__vue_app__
+    return app?.config.globalProperties.$nuxt?.isHydrating === false
+  })
+}
