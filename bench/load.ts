@@ -11,9 +11,11 @@
  * Starts everything itself on a database of its own (bench/load/stack.ts); export this
  * checkout's ports first (COUNTERPART_PG_PORT; COUNTERPART_LOAD_PORT, default 3190).
  * COUNTERPART_LOAD_USERS and COUNTERPART_LOAD_SECONDS change the size; COUNTERPART_LOAD_PHASES=plain
- * runs the first phase only (with COUNTERPART_LOAD_PROFILE=1, to profile one request mix).
+ * runs the first phase only (with COUNTERPART_LOAD_PROFILE=1, to profile one request mix);
+ * COUNTERPART_LOAD_PHASES=actions runs each kind of request alone for 10 s instead (its cost;
+ * COUNTERPART_LOAD_ACTIONS=did,pool picks some).
  */
-import { cpus, loadavg } from 'node:os'
+import { cpus, loadavg, setPriority } from 'node:os'
 import pg from 'pg'
 import { cpuSeconds, postgresCpuSeconds, rssMb, startStack, workerNodePid, type Stack } from './load/stack'
 import { act, makeAccounts, MIX, pickAction, prepareUser, Session, type Action, type LoadUser } from './load/users'
@@ -31,7 +33,7 @@ function quantile(sorted: number[], q: number): number {
   return sorted[Math.min(sorted.length - 1, Math.ceil(q * sorted.length) - 1)]!
 }
 
-async function phase(name: string, stack: Stack, users: LoadUser[]) {
+async function phase(name: string, stack: Stack, users: LoadUser[], only?: Action, seconds = SECONDS) {
   const samples: Sample[] = []
   const errors = new Map<string, number>()
   const rss = { web: 0, worker: 0 }
@@ -41,12 +43,12 @@ async function phase(name: string, stack: Stack, users: LoadUser[]) {
     rss.worker = Math.max(rss.worker, rssMb(workerPid) || 0)
   }, 500)
   const cpu0 = { web: cpuSeconds(stack.web.pid), worker: cpuSeconds(workerPid), db: postgresCpuSeconds(), client: process.cpuUsage() }
-  const end = Date.now() + SECONDS * 1000
+  const end = Date.now() + seconds * 1000
   const t0 = performance.now()
   await Promise.all(users.map(async (user, i) => {
     const r = uniforms(1000 * (i + 1) + name.length)
     while (Date.now() < end) {
-      const action = pickAction(r())
+      const action = only ?? pickAction(r())
       const start = performance.now()
       let ok = false
       try {
@@ -69,7 +71,7 @@ async function phase(name: string, stack: Stack, users: LoadUser[]) {
   const line = (label: string, xs: number[]) => `  ${label.padEnd(11)} ${String(xs.length).padStart(6)} req  p50 ${quantile(xs, 0.5).toFixed(0).padStart(5)} ms  p95 ${quantile(xs, 0.95).toFixed(0).padStart(5)} ms  p99 ${quantile(xs, 0.99).toFixed(0).padStart(5)} ms`
   console.log(`\n${name}: ${(samples.length / wall).toFixed(1)} req/s over ${wall.toFixed(1)} s, ${USERS} users, errors ${failed}`)
   console.log(line('all', all))
-  for (const [action] of MIX) console.log(line(action, samples.filter(s => s.action === action).map(s => s.ms).sort((a, b) => a - b)))
+  for (const [action] of MIX) if (!only || only === action) console.log(line(action, samples.filter(s => s.action === action).map(s => s.ms).sort((a, b) => a - b)))
   console.log(`  RSS (max)   web ${rss.web.toFixed(0)} MB, worker ${rss.worker.toFixed(0)} MB`)
   // CPU per request is what a busy machine changes least: it says what each request costs the web process
   console.log(`  CPU         web ${cpu.web.toFixed(1)} s (${(1000 * cpu.web / samples.length).toFixed(1)} ms a request, ${(100 * cpu.web / wall).toFixed(0)}% of a core), worker ${cpu.worker.toFixed(1)} s; load average ${loadavg()[0]!.toFixed(1)} on ${cpus().length} cores`)
@@ -121,6 +123,8 @@ async function jobState(session: Session, id: string) {
 async function main() {
   console.log(`starting the web process and a worker on a fresh database`)
   const stack = await startStack()
+  // the simulated users yield the cores to the server (real users are on other machines)
+  if (process.env.COUNTERPART_LOAD_CLIENT_NICE !== '0') setPriority(10)
   try {
     const emails = await makeAccounts(stack.databaseUrl, USERS)
     const users: LoadUser[] = []
@@ -130,8 +134,14 @@ async function main() {
     console.log(`${users.length} users signed in, each with a study of ${users[0]!.codes.length} candidates`)
     for (const u of users.slice(0, 5)) await act(u, 'did', Math.random) // warm-up
 
-    const results = [await phase('plain', stack, users)]
+    const results = process.env.COUNTERPART_LOAD_PHASES === 'actions' ? [] : [await phase('plain', stack, users)]
     if (process.env.COUNTERPART_LOAD_PHASES === 'plain') return report(results)
+    if (process.env.COUNTERPART_LOAD_PHASES === 'actions') {
+      // each kind of request alone for 10 s: what one request of that kind costs
+      const chosen = process.env.COUNTERPART_LOAD_ACTIONS?.split(',')
+      for (const [action] of MIX) if (!chosen || chosen.includes(action)) results.push(await phase(`${action} alone`, stack, users, action, 10))
+      return report(results)
+    }
 
     const csv = await prepareImport(stack)
     const uploadAt = performance.now()

@@ -233,7 +233,10 @@ export const studyRuns = pgTable('study_runs', {
   result: jsonb('result').$type<EstimateResult>().notNull(),
   createdBy: integer('created_by').references(() => users.id),
   createdAt: createdAt(),
-}, t => [index('study_runs_study').on(t.studyId)])
+}, t => [
+  // a study's runs; the run of a design just before another is one step of this index
+  index('study_runs_study').on(t.studyId, t.design, t.id),
+])
 
 /**
  * Robustness checks of a run (placebo in time and space, leave one donor out, alternative

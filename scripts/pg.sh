@@ -22,20 +22,10 @@ ensure_pg_installed() {
   fi
 }
 
-# Where the cluster lives: .data/pg, unless root's postgres user cannot reach the work tree.
-cluster_dir() {
-  if is_root && ! runuser -u postgres -- test -x "$ROOT" 2>/dev/null; then
-    echo "/var/tmp/counterpart-pg-$(echo "$ROOT" | md5sum | cut -c1-8)"
-  else
-    echo "$DATA_DIR/pg"
-  fi
-}
-
 as_pg() { if is_root; then runuser -u postgres -- "$@"; else "$@"; fi; }
 
-BASE="$(cluster_dir)"
+BASE="$PG_BASE"
 PGDATA_DIR="$BASE/data"
-SOCK_DIR="$BASE/sock"
 LOG_FILE="$BASE/postgres.log"
 
 init_cluster() {
@@ -81,7 +71,7 @@ start() {
     mkdir -p "$SOCK_DIR"
     if is_root; then chown postgres:postgres "$SOCK_DIR" "$BASE"; fi
     as_pg "$(pg_bin)/pg_ctl" -D "$PGDATA_DIR" -l "$LOG_FILE" -w -t 60 \
-      -o "-c listen_addresses=127.0.0.1 -p $PG_PORT -k $SOCK_DIR" start >/dev/null
+      -o "-c listen_addresses=127.0.0.1 -p $PG_PORT -k $SOCK_DIR -c unix_socket_permissions=0700" start >/dev/null
     log "PostgreSQL started on 127.0.0.1:$PG_PORT"
   fi
   for db in "$@"; do ensure_database "$db"; done

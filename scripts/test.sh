@@ -56,6 +56,7 @@ HOST=127.0.0.1 PORT=$TEST_PORT \
 pids+=($!)
 # the jobs run in a separate worker process, as in production (tests/api/jobs-*.test.ts start more)
 export COUNTERPART_WORKER_SOCKET="$DATA_DIR/run/test-worker.sock"
+export COUNTERPART_WORKER_NICE=0 # the job tests time the worker: full speed beside the test runner
 NUXT_SMTP_PORT=$SMTP_TEST_PORT NUXT_MAIL_CATCHER_URL="$MAIL_CATCHER_URL" \
   setsid bash scripts/worker.sh > "$DATA_DIR/logs/test-worker.log" 2>&1 &
 pids+=($!)

@@ -4,7 +4,9 @@
 # reaches the database. The worker serves no pages; it answers GET /_worker/health on its own
 # unix socket (.data/run/worker-<pid>.sock, or COUNTERPART_WORKER_SOCKET). If the worker
 # process dies it is started again after a second (its unfinished job is failed by the sweep).
-# Builds the app first when .output is missing.
+# Builds the app first when .output is missing. Jobs run at a lower CPU priority than the web
+# process (nice 10, or COUNTERPART_WORKER_NICE; 0 for none): on a machine that serves pages
+# too, an import or a robustness run takes the cores the requests leave.
 set -uo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/env.sh"
 cd "$ROOT"
@@ -29,7 +31,7 @@ stop() { [ "$child" != 0 ] && kill "$child" 2>/dev/null; wait 2>/dev/null; rm -f
 trap stop INT TERM
 while :; do
   rm -f "$SOCKET"
-  env -u PORT -u HOST -u NITRO_PORT -u NITRO_HOST COUNTERPART_ROLE=worker NITRO_UNIX_SOCKET="$SOCKET" node .output/server/index.mjs &
+  nice -n "${COUNTERPART_WORKER_NICE:-10}" env -u PORT -u HOST -u NITRO_PORT -u NITRO_HOST COUNTERPART_ROLE=worker NITRO_UNIX_SOCKET="$SOCKET" node .output/server/index.mjs &
   child=$!
   began=$SECONDS
   log "worker $child started (health: curl --unix-socket $SOCKET http://worker/_worker/health)"

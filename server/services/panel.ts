@@ -17,8 +17,20 @@ import { parsePeriod } from '../../shared/utils/periods'
 import type { PanelQuery, PanelResponse, PanelRow } from '../../shared/schemas/uploads'
 
 export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): Promise<PanelResponse> {
-  const { rows: [measure] } = await pool.query<{ id: number, key: string, label: string, unit: string, frequency: string }>(
-    'SELECT id, key, label, unit, frequency FROM measures WHERE key = $1', [q.measure])
+  return (await readPanelCells(pool, q)).panel
+}
+
+/**
+ * The panel, and for the default read (newest release per cell) which releases supplied each
+ * jurisdiction's cells: a subset of the units can then say its releases without a new read.
+ */
+export async function readPanelCells(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): Promise<{ panel: PanelResponse, releasesByUnit: Map<string, number[]> | null }> {
+  // the measure and the jurisdictions (the asked ones, or all) in one query, codes in code order
+  const { rows: [measure] } = await pool.query<{ id: number, key: string, label: string, unit: string, frequency: string, units: [number, string][] }>(
+    `SELECT id, key, label, unit, frequency,
+       (SELECT coalesce(json_agg(json_build_array(j.id, j.code) ORDER BY j.code), '[]') FROM jurisdictions j
+         WHERE $2::text[] IS NULL OR j.code = ANY($2::text[])) AS units
+     FROM measures WHERE key = $1`, [q.measure, q.units.length ? q.units : null])
   if (!measure) throw createError({ statusCode: 404, message: `No measure with key "${q.measure}".` })
   for (const [name, value] of [['from', q.from], ['to', q.to]] as const) {
     if (value && parsePeriod(value).frequency !== measure.frequency) {
@@ -27,14 +39,14 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
   }
   if (q.from && q.to && q.from > q.to) badRequest(`from (${q.from}) comes after to (${q.to}).`, [{ path: 'from', message: 'from is after to.' }])
 
+  const codes = measure.units.map(([id, code]) => ({ id, code }))
   const params: unknown[] = [measure.id]
   const where: string[] = ['o.measure_id = $1']
   if (q.units.length) {
-    const { rows } = await pool.query<{ id: number, code: string }>('SELECT id, code FROM jurisdictions WHERE code = ANY($1)', [q.units])
-    const known = new Set(rows.map(r => r.code))
+    const known = new Set(codes.map(r => r.code))
     const unknown = q.units.filter(c => !known.has(c))
     if (unknown.length) badRequest(`Unknown jurisdiction code${unknown.length > 1 ? 's' : ''}: ${unknown.slice(0, 20).join(', ')}.`, unknown.map(c => ({ path: 'units', message: `Unknown code "${c}".` })))
-    params.push(rows.map(r => r.id))
+    params.push(codes.map(r => r.id))
     where.push(`o.jurisdiction_id = ANY($${params.length}::int[])`)
   }
   // Canonical periods of one frequency sort as text in time order (four-digit years).
@@ -64,10 +76,12 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
   const current = !q.release.length && !q.asOf
   let out: PanelRow[]
   let used: number[]
+  let releasesByUnit: Map<string, number[]> | null = null
   if (current) {
-    const cells = await readCurrentCells(pool, measure.id, q.units.length ? params[1] as number[] : null, q.from, q.to)
+    const cells = await readCurrentCells(pool, measure.id, q.units.length ? params[1] as number[] : null, codes, q.from, q.to)
     out = cells.rows
     used = cells.releaseIds
+    releasesByUnit = cells.releasesByUnit
   }
   else {
     const cells = `SELECT DISTINCT ON (o.jurisdiction_id, o.period) o.jurisdiction_id, o.period, o.value, o.release_id
@@ -104,7 +118,7 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
       `SELECT r.id, s.name AS source, r.label, r.imported_at FROM source_releases r JOIN sources s ON s.id = r.source_id
        WHERE r.id = ANY($1::int[]) ORDER BY r.id`, [used])
     : { rows: [] }
-  return {
+  const panel = {
     measure: measure.key,
     label: measure.label,
     unit: measure.unit,
@@ -112,6 +126,7 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
     rows: out,
     releases: releases.map(r => ({ id: r.id, source: r.source, label: r.label, importedAt: r.imported_at?.toISOString() ?? null })),
   }
+  return { panel, releasesByUnit }
 }
 
 const csvField = (s: string) => (/[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s)

@@ -6,7 +6,9 @@
  * (one contiguous block) are put in the order of the codes as PostgreSQL sorts them. Codes
  * and periods are shared strings, one per jurisdiction and per distinct period.
  *
- * Both statements run in one read-only repeatable-read transaction: one snapshot.
+ * The codes come from the caller, read just before (with the measure); COPY is one statement,
+ * one snapshot. A jurisdiction created in between whose cells the COPY sees gets its code read
+ * afterwards (codes never change once given).
  */
 import type pg from 'pg'
 import { to as copyTo } from 'pg-copy-streams'
@@ -16,6 +18,8 @@ export interface CurrentCells {
   rows: PanelRow[]
   /** Releases that supplied at least one cell, ascending. */
   releaseIds: number[]
+  /** The same per jurisdiction code: which releases supplied its cells (ascending). */
+  releasesByUnit: Map<string, number[]>
 }
 
 /** COPY text format: backslash escapes (only where a field holds one). */
@@ -54,12 +58,10 @@ export function decimal(text: string, from: number, to: number): number {
   return neg ? -v : v
 }
 
-export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdictionIds: number[] | null, from?: string, to?: string): Promise<CurrentCells> {
+export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdictionIds: number[] | null, knownCodes: { id: number, code: string }[], from?: string, to?: string): Promise<CurrentCells> {
   const client = await pool.connect()
   let text: string
-  let codes: { id: number, code: string }[]
   try {
-    await client.query('BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY')
     // COPY takes no bind parameters: ids are integers, periods go in as quoted literals.
     const where = [`measure_id = ${Math.trunc(measureId)}`]
     if (jurisdictionIds) where.push(`jurisdiction_id IN (${jurisdictionIds.length ? jurisdictionIds.map(id => Math.trunc(id)).join(',') : 'NULL'})`)
@@ -71,18 +73,11 @@ export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdi
              ORDER BY measure_id, jurisdiction_id, period) TO STDOUT`))
     for await (const chunk of stream) chunks.push(chunk as Buffer)
     text = Buffer.concat(chunks).toString('utf8')
-    codes = (await client.query<{ id: number, code: string }>(
-      jurisdictionIds ? 'SELECT id, code FROM jurisdictions WHERE id = ANY($1::int[]) ORDER BY code' : 'SELECT id, code FROM jurisdictions ORDER BY code',
-      jurisdictionIds ? [jurisdictionIds] : [])).rows
-    await client.query('COMMIT')
-  }
-  catch (e) {
-    await client.query('ROLLBACK').catch(() => {})
-    throw e
   }
   finally {
     client.release()
   }
+  let codes = knownCodes
 
   // Parse: one line "jurisdiction_id \t period \t value \t release_id" per cell. Integers are
   // read digit by digit; a period equal to the one at the same position in the previous
@@ -94,6 +89,9 @@ export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdi
   const period: string[] = new Array(lines)
   const periodOf = new Map<string, string>()
   const releases = new Set<number>()
+  // releases per jurisdiction id (a cell's release usually equals the one before it)
+  const unitReleases = new Map<number, Set<number>>()
+  let current: Set<number> | undefined
   let lastRelease = -1
   let previousBlock: string[] = []
   let block: string[] = []
@@ -113,6 +111,10 @@ export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdi
       previousBlock = block
       block = []
     }
+    if (n === 0 || jid[n] !== jid[n - 1]) {
+      unitReleases.set(jid[n]!, (current = new Set()))
+      lastRelease = -1
+    }
     const guess = previousBlock[block.length]
     let per: string
     if (guess !== undefined && guess.length === t2 - t1 - 1 && text.startsWith(guess, t1 + 1)) per = guess
@@ -128,6 +130,7 @@ export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdi
     const release = int(t3 + 1, nl)
     if (release !== lastRelease) {
       releases.add(release)
+      current!.add(release)
       lastRelease = release
     }
     n++
@@ -135,8 +138,17 @@ export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdi
   }
 
   // Blocks of rows per jurisdiction (contiguous: rows come ordered by jurisdiction id).
-  const rank = new Map<number, number>()
+  let rank = new Map<number, number>()
   codes.forEach((c, k) => rank.set(c.id, k))
+  // a jurisdiction created after the codes were read (with cells imported since): read its code
+  // (codes never change once given)
+  const unnamed = [...unitReleases.keys()].filter(id => !rank.has(id))
+  if (unnamed.length) {
+    const { rows: more } = await pool.query<{ id: number, code: string }>('SELECT id, code FROM jurisdictions WHERE id = ANY($1::int[])', [unnamed])
+    codes = [...codes, ...more].sort((a, b) => (a.code < b.code ? -1 : a.code > b.code ? 1 : 0))
+    rank = new Map()
+    codes.forEach((c, k) => rank.set(c.id, k))
+  }
   const blocks: { start: number, end: number, rank: number, code: string }[] = []
   for (let i = 0; i < n;) {
     let j = i + 1
@@ -148,9 +160,11 @@ export async function readCurrentCells(pool: pg.Pool, measureId: number, jurisdi
   }
   blocks.sort((a, b) => a.rank - b.rank)
   const rows: PanelRow[] = new Array(n)
+  const releasesByUnit = new Map<string, number[]>()
   let r = 0
   for (const b of blocks) {
     for (let i = b.start; i < b.end; i++) rows[r++] = { jurisdiction: b.code, period: period[i]!, value: value[i]! }
+    releasesByUnit.set(b.code, [...unitReleases.get(jid[b.start]!)!].sort((x, y) => x - y))
   }
-  return { rows, releaseIds: [...releases].sort((a, b) => a - b) }
+  return { rows, releaseIds: [...releases].sort((a, b) => a - b), releasesByUnit }
 }

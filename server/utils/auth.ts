@@ -10,15 +10,26 @@ import { users, type Role, type User } from '~~/db/schema'
 export type SessionUser = Pick<User, 'id' | 'email' | 'name' | 'role'>
 
 export async function requireUser(event: H3Event, roles?: readonly Role[]): Promise<SessionUser> {
+  const email = await sessionEmail(event)
+  const [user] = await useDb()
+    .select({ id: users.id, email: users.email, name: users.name, role: users.role, active: users.active })
+    .from(users)
+    .where(eq(users.email, email))
+  return activeUser(user, roles)
+}
+
+/** The signed-in email, or 401. */
+export async function sessionEmail(event: H3Event): Promise<string> {
   const session = await getServerSession(event)
   const email = session?.user?.email
   if (!email) {
     throw createError({ statusCode: 401, statusMessage: 'Unauthorized', message: 'Sign in first.' })
   }
-  const [user] = await useDb()
-    .select({ id: users.id, email: users.email, name: users.name, role: users.role, active: users.active })
-    .from(users)
-    .where(eq(users.email, email))
+  return email
+}
+
+/** The session's account as read from users: 401 when missing or inactive, 403 when its role is not among `roles`. */
+export function activeUser(user: (SessionUser & { active: boolean }) | undefined, roles?: readonly Role[]): SessionUser {
   if (!user || !user.active) {
     throw createError({ statusCode: 401, statusMessage: 'Unauthorized', message: 'This account is not active. Sign in again.' })
   }

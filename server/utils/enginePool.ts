@@ -155,19 +155,25 @@ export function rowsIdentity(rows: object): number {
 
 /**
  * Runs one engine task in a thread (or in-process from source); see the module comment.
- * With `keep`, the answer is kept under that key and given again (a copy) for the same key.
+ * `task` may be a function that makes it, called only when the answer must be computed.
+ * With `keep`, the answer is kept under that key and given again for the same key: a copy,
+ * or with `readOnly` the kept answer itself (no copy of a large result on every request), which
+ * the caller must not change (copy what it changes: { ...answer, warnings: [...] }).
  */
-export async function engineTask<K extends EngineTask['kind']>(task: Extract<EngineTask, { kind: K }>, keep?: string): Promise<EngineAnswers[K]> {
-  if (keep === undefined) return computeTask(task)
+export async function engineTask<K extends EngineTask['kind']>(task: Extract<EngineTask, { kind: K }> | (() => Extract<EngineTask, { kind: K }>), keep?: string, options: { readOnly?: boolean } = {}): Promise<EngineAnswers[K]> {
+  // a function makes the task only when the answer is not kept (packing rows costs a little)
+  const make = typeof task === 'function' ? task : () => task
+  if (keep === undefined) return computeTask(make())
   let answer = answers.get(keep)
   if (answer) answers.delete(keep)
   else {
-    answer = computeTask(task)
+    answer = computeTask(make())
     answer.catch(() => answers.delete(keep!)) // a refusal or failure is not kept
     if (answers.size >= ANSWERS_KEPT) answers.delete(answers.keys().next().value!)
   }
   answers.set(keep, answer)
-  return structuredClone(await answer) as EngineAnswers[K]
+  const value = await answer as EngineAnswers[K]
+  return options.readOnly ? value : structuredClone(value)
 }
 
 async function computeTask<K extends EngineTask['kind']>(task: Extract<EngineTask, { kind: K }>): Promise<EngineAnswers[K]> {

@@ -7,7 +7,7 @@
  */
 import type { H3Event } from 'h3'
 import { eq } from 'drizzle-orm'
-import { studies, type Study } from '~~/db/schema'
+import { studies, users, type Study } from '~~/db/schema'
 import { changeableNow, studyAccess, type StudyAction } from '../services/studies/access'
 import type { SessionUser } from './auth'
 import type { Db } from './db'
@@ -19,8 +19,13 @@ export function assertStudyAccess(study: Study, user: SessionUser, action: Study
 }
 
 export async function requireStudy(event: H3Event, id: number, action: StudyAction): Promise<{ user: SessionUser, study: Study }> {
-  const user = await requireUser(event, action === 'write' || action === 'version' ? WRITERS : undefined)
-  const [study] = await useDb().select().from(studies).where(eq(studies.id, id))
+  const email = await sessionEmail(event)
+  // the account and the study in one query
+  const [row] = await useDb()
+    .select({ user: { id: users.id, email: users.email, name: users.name, role: users.role, active: users.active }, study: studies })
+    .from(users).leftJoin(studies, eq(studies.id, id)).where(eq(users.email, email))
+  const user = activeUser(row?.user, action === 'write' || action === 'version' ? WRITERS : undefined)
+  const study = row?.study
   if (!study) throw createError({ statusCode: 404, message: `No study with id ${id}.` })
   assertStudyAccess(study, user, action)
   return { user, study }

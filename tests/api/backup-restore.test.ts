@@ -18,6 +18,12 @@ import { studyWithRuns, type StudyFixture } from '../support/studyFixture'
 
 const url = new URL(TEST_DATABASE_URL)
 const dbName = url.pathname.slice(1)
+/** The same server, another database (keeps ?host=... when the URL goes through a socket). */
+const urlOf = (db: string) => {
+  const u = new URL(TEST_DATABASE_URL)
+  u.pathname = `/${db}`
+  return u.toString()
+}
 const restored = `counterpart_restored_${Date.now().toString(36)}`
 const scriptEnv = { ...process.env, COUNTERPART_PG_PORT: url.port, COUNTERPART_DB_NAME: dbName }
 
@@ -63,7 +69,7 @@ afterAll(async () => {
     catch { second.kill() }
   }
   await new Promise(r => setTimeout(r, 500))
-  const admin = new pg.Client({ connectionString: TEST_DATABASE_URL.replace(/\/[^/]+$/, '/postgres') })
+  const admin = new pg.Client({ connectionString: urlOf('postgres') })
   await admin.connect()
   await admin.query(`DROP DATABASE IF EXISTS ${restored} WITH (FORCE)`).catch(() => {})
   await admin.end()
@@ -125,7 +131,7 @@ describe('restore into a fresh database', () => {
       stdio: 'ignore',
       env: {
         ...process.env,
-        DATABASE_URL: TEST_DATABASE_URL.replace(/\/[^/]+$/, `/${restored}`),
+        DATABASE_URL: urlOf(restored),
         HOST: '127.0.0.1',
         PORT: String(port),
         NUXT_AUTH_SECRET: randomBytes(48).toString('base64'), // the built server refuses a short or missing secret

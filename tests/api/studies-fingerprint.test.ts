@@ -15,6 +15,7 @@ let admin: Client
 let analyst: Client
 let sourceId: number
 let studyId: number
+let republishedId: number
 const tag = runTag()
 const T = `F${tag}-T`
 const donors = [1, 2, 3, 4].map(n => `F${tag}-C${n}`)
@@ -64,6 +65,7 @@ describe('fingerprints and releases', () => {
 
     // the same values again, in another order: a new release (newest for every cell), same rows
     const second = await release(csv([...allRows()].reverse()), 'republished')
+    republishedId = second
     const same = await run()
     expect(same.releaseIds).toEqual([second])
     expect(same.fingerprint).toBe(first.fingerprint)
@@ -81,5 +83,16 @@ describe('fingerprints and releases', () => {
     for (const r of [first, same, changed]) expect(fingerprintRows(await readRowsBack(r.id), r.spec)).toBe(r.fingerprint)
     const listed = (await analyst.get(`/api/studies/${studyId}/runs`)).body as { id: number, compare: { dataChanged: boolean } | null }[]
     expect(listed.map(r => r.compare?.dataChanged ?? null)).toEqual([true, false, null])
+  })
+
+  it('names only the releases of its own units: without the revised donor, the revision is not among them', async () => {
+    // the run takes its units' rows from the study's current rows of every unit; its releases
+    // must still be those of its own cells, as a read of just those units would find
+    const put = await analyst.put(`/api/studies/${studyId}/pool`, { decisions: [{ jurisdiction: donors[1]!, included: false, reason: 'Test: leave the revised donor out' }] })
+    expect(put.status, JSON.stringify(put.body)).toBe(200)
+    const without = await run()
+    expect(without.spec.comparison).not.toContain(donors[1])
+    expect(without.releaseIds).toEqual([republishedId])
+    expect(fingerprintRows(await readRowsBack(without.id), without.spec)).toBe(without.fingerprint)
   })
 })

@@ -71,7 +71,8 @@ const safeCompare = (a: string, b: string) => {
  * Recently built contexts, so a pool change re-scores without reading the panel again. The
  * key holds every study field the context depends on and a digest of the registry tables it
  * reads (imported releases, policy events, neighbour links, jurisdictions): any change there
- * builds a fresh context. Runs never use this: they read their own rows.
+ * builds a fresh context. A run takes its units' rows from the context (subsetStudyRows): the
+ * rows a new read would give, since the context is rebuilt as soon as a release is imported.
  */
 const contexts = new Map<string, { at: number, ctx: CandidateContext }>()
 const CONTEXT_TTL_MS = 5 * 60_000

@@ -1,5 +1,6 @@
 /** Comparing a run with the previous run of the same design. Pure. */
 import type { EstimateResult } from '#shared/engine/result'
+import { canonicalJson } from './fingerprint'
 
 export interface ComparedRun {
   id: number
@@ -21,7 +22,8 @@ export function compareRuns(run: ComparedRun & { spec?: unknown }, previous: (Co
   const tiny = (d: number, scale: number) => (Math.abs(d) <= 1e-9 * (1 + Math.abs(scale)) ? 0 : d)
   const specA = (run.spec ?? {}) as Record<string, unknown>
   const specB = (previous.spec ?? {}) as Record<string, unknown>
-  const same = (x: unknown, y: unknown) => JSON.stringify(x) === JSON.stringify(y)
+  // by content, whatever the order of object keys (jsonb reorders them)
+  const same = (x: unknown, y: unknown) => canonicalJson(x) === canonicalJson(y)
   const poolChanged = !same(specA.comparison, specB.comparison)
   const optionsChanged = [...new Set([...Object.keys(specA), ...Object.keys(specB)])].filter(k => k !== 'comparison' && !same(specA[k], specB[k])).sort()
   const releasesAdded = run.releaseIds.filter(id => !previous.releaseIds.includes(id))

@@ -70,7 +70,7 @@ export async function previewEstimate(ctx: CandidateContext, pool: string[]) {
   try {
     const spec = buildRunSpec(ctx.study, 'did', {}, pool, periods)
     // in an engine thread; kept for the same rows (the context's, chosen by the spec's units) and spec
-    const result = await engineTask({ kind: 'estimate', rows: packRows(rows), spec }, `preview ${rowsIdentity(ctx.data)} ${canonicalJson(spec)}`)
+    const result = await engineTask(() => ({ kind: 'estimate', rows: packRows(rows), spec }), `preview ${rowsIdentity(ctx.data)} ${canonicalJson(spec)}`, { readOnly: true }) // read-only: nothing here changes it
     const inf = result.inference
     return {
       design: 'did' as const,

@@ -3,7 +3,7 @@
  * is outcome / denominator x 1,000) and every covariate, read through the panel store
  * (newest release per cell, or only the given releases to reproduce an older read).
  */
-import { readPanel } from '../panel'
+import { readPanelCells } from '../panel'
 import type { RowSource, RunRelease } from '~~/db/jsonTypes'
 import { compareRows, type StudyRow } from './fingerprint'
 
@@ -13,6 +13,11 @@ export interface StudyRows {
   releaseIds: number[]
   frequency: string
   releases: RunRelease[]
+  /**
+   * Reads of the newest releases only: which releases supplied each jurisdiction's cells (every
+   * measure read). subsetStudyRows uses it to give a subset of the units without a new read.
+   */
+  releasesByUnit?: Map<string, number[]>
 }
 
 export const OUTCOME = 'outcome'
@@ -22,10 +27,11 @@ export const EXPOSURE = 'exposure'
 
 export async function readStudyRows(src: RowSource, releaseIds: number[] = []): Promise<StudyRows> {
   const pool = usePool()
-  const read = (measure: string) => readPanel(pool, { measure, units: src.units, from: src.from ?? undefined, to: src.to ?? undefined, release: releaseIds })
+  const read = (measure: string) => readPanelCells(pool, { measure, units: src.units, from: src.from ?? undefined, to: src.to ?? undefined, release: releaseIds })
   const rate = src.transform === 'rate' && src.denominator
   const keys = [src.outcome, ...src.covariates, ...(rate ? [src.denominator!] : [])]
-  const panels = await Promise.all(keys.map(read))
+  const reads = await Promise.all(keys.map(read))
+  const panels = reads.map(r => r.panel)
   const byCell = new Map<string, StudyRow>()
   const blank = () => {
     const v: Record<string, number | null> = { [OUTCOME]: null }
@@ -63,7 +69,45 @@ export async function readStudyRows(src: RowSource, releaseIds: number[] = []): 
   const releases = new Map<number, StudyRows['releases'][number]>()
   for (const p of panels) for (const r of p.releases) releases.set(r.id, r)
   const ids = [...releases.keys()].sort((a, b) => a - b)
-  return { rows, releaseIds: ids, frequency: outcome.frequency, releases: ids.map(id => releases.get(id)!) }
+  let releasesByUnit: Map<string, number[]> | undefined
+  if (reads.every(r => r.releasesByUnit)) {
+    const merged = new Map<string, Set<number>>()
+    for (const r of reads) {
+      for (const [unit, used] of r.releasesByUnit!) {
+        let set = merged.get(unit)
+        if (!set) merged.set(unit, (set = new Set()))
+        for (const id of used) set.add(id)
+      }
+    }
+    releasesByUnit = new Map([...merged].map(([unit, set]) => [unit, [...set].sort((a, b) => a - b)]))
+  }
+  return { rows, releaseIds: ids, frequency: outcome.frequency, releases: ids.map(id => releases.get(id)!), releasesByUnit }
+}
+
+/**
+ * The rows of some of the units of a newest-release read, exactly as readStudyRows would read
+ * them with `units` (same measures and periods): the same rows in the same order, and the
+ * releases that supplied those units' cells. Null when the read does not know its releases per
+ * unit (a read of given releases).
+ */
+export function subsetStudyRows(data: StudyRows, units: readonly string[]): StudyRows | null {
+  if (!data.releasesByUnit) return null
+  const keep = new Set(units)
+  const used = new Set<number>()
+  const releasesByUnit = new Map<string, number[]>()
+  for (const unit of keep) {
+    const ids = data.releasesByUnit.get(unit)
+    if (!ids) continue
+    releasesByUnit.set(unit, ids)
+    for (const id of ids) used.add(id)
+  }
+  return {
+    rows: data.rows.filter(r => keep.has(r.jurisdiction)),
+    releaseIds: data.releaseIds.filter(id => used.has(id)),
+    frequency: data.frequency,
+    releases: data.releases.filter(r => used.has(r.id)),
+    releasesByUnit,
+  }
 }
 
 /** Rows in the engine's typed-row form. */

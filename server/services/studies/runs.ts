@@ -4,7 +4,7 @@
  * (study_runs.data) and the engine's result. A run is compared with the previous run of
  * the same design: what moved (estimate, SE) and whether the data changed.
  */
-import { and, desc, eq, lt } from 'drizzle-orm'
+import { and, desc, eq, lt, sql } from 'drizzle-orm'
 import { studyRuns, users, type Study, type StudyRun } from '~~/db/schema'
 import type { RunData } from '~~/db/jsonTypes'
 import { isEngineError, type EstimateResult, type Spec } from '~~/server/engine'
@@ -14,8 +14,9 @@ import { runCreateSchema } from '#shared/schemas/studies'
 import type { z } from 'zod'
 import { compareRuns } from './compareRuns'
 import { canonicalJson } from './fingerprint'
+import { asStoredJson } from './storedJson'
 import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
-import { readStudyRows } from './rows'
+import { readStudyRows, subsetStudyRows } from './rows'
 import { buildRunSpec, isCountModel, laterInterventions, runUsesPool } from './spec'
 
 type RunInput = z.output<typeof runCreateSchema>
@@ -35,7 +36,24 @@ const runColumns = {
 }
 type RunRow = StudyRun & { createdByName: string | null }
 
-function present(run: RunRow, previous?: RunRow) {
+/** What compareRuns reads of the previous run: its spec, fingerprint, releases and effect (not the whole result). */
+type PreviousRun = Pick<StudyRun, 'id' | 'spec' | 'fingerprint' | 'releaseIds'> & { result: { effect: unknown } }
+
+/** The run of the same design just before `runId`, as much as compareRuns needs. */
+async function previousRun(studyId: number, design: StudyRun['design'], runId: number): Promise<PreviousRun | undefined> {
+  const [previous] = await useDb().select({
+    id: studyRuns.id,
+    spec: studyRuns.spec,
+    fingerprint: studyRuns.fingerprint,
+    releaseIds: studyRuns.releaseIds,
+    effect: sql<unknown>`${studyRuns.result} -> 'effect'`.mapWith(studyRuns.result),
+  }).from(studyRuns)
+    .where(and(eq(studyRuns.studyId, studyId), eq(studyRuns.design, design), lt(studyRuns.id, runId)))
+    .orderBy(desc(studyRuns.id)).limit(1)
+  return previous && { id: previous.id, spec: previous.spec, fingerprint: previous.fingerprint, releaseIds: previous.releaseIds, result: { effect: previous.effect } }
+}
+
+function present(run: RunRow, previous?: RunRow | PreviousRun) {
   return {
     id: run.id,
     studyId: run.studyId,
@@ -66,7 +84,10 @@ export async function createRun(study: Study, userId: number, input: RunInput | 
   const counts = isCountModel(design, options)
   if (counts && (study.transform !== 'rate' || !study.denominator)) badRequest('A count model needs the outcome recorded as a count with a denominator: set the study\'s transform to "rate" with a denominator measure, or use the linear model.')
   const source = { ...studySource(study, units.sort()), ...(counts ? { counts: true } : {}) }
-  const read = await readStudyRows(source)
+  // the candidate context holds the current rows of every unit (it is rebuilt whenever a release
+  // is imported): the run's units are a subset, the very rows a new read would give; a count
+  // model reads its own (the count and the exposure beside the rate)
+  const read = (!counts && subsetStudyRows(ctx.data, units)) || await readStudyRows(source)
   const periods = [...new Set(read.rows.map(r => r.period))].sort()
   const specInput = buildRunSpec(study, design, options, comparison, periods)
   let result: EstimateResult
@@ -77,7 +98,9 @@ export async function createRun(study: Study, userId: number, input: RunInput | 
     // the rows are known by their source and the releases they came from (imported releases never change)
     const rowsKey = JSON.stringify([source, read.releaseIds])
     // and the same rows under the same spec give the same answer (the engine is pure and seeded)
-    ;({ spec, result, fingerprint } = await engineTask({ kind: 'run', rows: packRows(read.rows), spec: specInput, rowsKey }, `run ${rowsKey} ${canonicalJson(specInput)}`))
+    // (read-only: the warnings below go on a copy)
+    ;({ spec, result, fingerprint } = await engineTask(() => ({ kind: 'run', rows: packRows(read.rows), spec: specInput, rowsKey }), `run ${rowsKey} ${canonicalJson(specInput)}`, { readOnly: true }))
+    result = { ...result, warnings: [...result.warnings] }
   }
   catch (e) {
     if (isEngineError(e)) badRequest(e.message)
@@ -93,15 +116,22 @@ export async function createRun(study: Study, userId: number, input: RunInput | 
   }
   const data: RunData = { source, frequency: read.frequency, releases: read.releases, pool: assemblePool(ctx, decisions).rows }
   const db = useDb()
-  const id = await db.transaction(async (tx) => {
+  const stored = await db.transaction(async (tx) => {
     await lockStudyForChange(tx, study.id)
     const [row] = await tx.insert(studyRuns).values({
       studyId: study.id, design, spec, fingerprint, releaseIds: read.releaseIds, data, result, createdBy: userId,
-    }).returning({ id: studyRuns.id })
+    }).returning({ id: studyRuns.id, createdAt: studyRuns.createdAt })
     await audit(tx, { userId, action: 'run', entity: 'study', entityId: study.id, after: { runId: row!.id, design, fingerprint, releaseIds: read.releaseIds, effect: result.effect } })
-    return row!.id
+    return row!
   })
-  return getRun(study.id, id)
+  // answered from what was just stored (reading the run back would parse its JSON twice more)
+  const [[author], previous] = await Promise.all([
+    db.select({ name: users.name }).from(users).where(eq(users.id, userId)),
+    previousRun(study.id, design, stored.id),
+  ])
+  // in the form a read gives (jsonb orders object keys): the reply equals a later GET of the run
+  const run: RunRow = { id: stored.id, studyId: study.id, design, spec: asStoredJson(spec), fingerprint, releaseIds: read.releaseIds, data: asStoredJson(data), result: asStoredJson(result), createdAt: stored.createdAt, createdBy: userId, createdByName: author?.name ?? null }
+  return present(run, previous)
 }
 
 export async function listRuns(studyId: number) {
@@ -116,8 +146,5 @@ export async function getRun(studyId: number, runId: number) {
   const [run] = await db.select(runColumns).from(studyRuns).leftJoin(users, eq(users.id, studyRuns.createdBy))
     .where(and(eq(studyRuns.id, runId), eq(studyRuns.studyId, studyId)))
   if (!run) throw createError({ statusCode: 404, message: `Study ${studyId} has no run ${runId}.` })
-  const [previous] = await db.select(runColumns).from(studyRuns).leftJoin(users, eq(users.id, studyRuns.createdBy))
-    .where(and(eq(studyRuns.studyId, studyId), eq(studyRuns.design, run.design), lt(studyRuns.id, runId)))
-    .orderBy(desc(studyRuns.id)).limit(1)
-  return present(run, previous)
+  return present(run, await previousRun(studyId, run.design, runId))
 }

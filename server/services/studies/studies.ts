@@ -113,17 +113,20 @@ export async function createStudy(user: SessionUser, body: Create) {
 }
 
 export async function getStudy(study: Study, user: SessionUser) {
-  const db = useDb()
-  const [owner] = await db.select({ name: users.name, email: users.email }).from(users).where(eq(users.id, study.ownerId))
   const codes = [...new Set([...study.treated, ...study.interventions.map(i => i.jurisdiction)])]
-  const named = codes.length ? await db.select({ code: jurisdictions.code, name: jurisdictions.name }).from(jurisdictions).where(inArray(jurisdictions.code, codes)) : []
   const keys = [study.outcome, ...study.covariates, ...(study.denominator ? [study.denominator] : [])]
-  const ms = await db.select({ key: measures.key, label: measures.label, unit: measures.unit, frequency: measures.frequency }).from(measures).where(inArray(measures.key, keys))
+  // the owner's name, the units' names and the measures in one query
+  type Measure = { key: string, label: string, unit: string, frequency: string }
+  const { rows: [found] } = await usePool().query<{ owner: string | null, names: Record<string, string>, measures: Record<string, Measure> }>(`SELECT
+      (SELECT name FROM users WHERE id = $1) AS owner,
+      (SELECT coalesce(json_object_agg(code, name), '{}') FROM jurisdictions WHERE code = ANY($2::text[])) AS names,
+      (SELECT coalesce(json_object_agg(key, json_build_object('key', key, 'label', label, 'unit', unit, 'frequency', frequency)), '{}')
+         FROM measures WHERE key = ANY($3::text[])) AS measures`, [study.ownerId, codes, keys])
   return {
     ...study,
-    owner: owner?.name ?? null,
-    names: Object.fromEntries(named.map(n => [n.code, n.name])),
-    measures: Object.fromEntries(ms.map(m => [m.key, m])),
+    owner: found?.owner ?? null,
+    names: found?.names ?? {},
+    measures: found?.measures ?? {},
     ...editState(study, user),
   }
 }

@@ -109,7 +109,7 @@ export async function studyTrends(study: Study, window?: { from: number, to: num
     const ew = (spec as { eventWindow?: { from: number, to: number } }).eventWindow
     usedWindow = ew ? { from: ew.from, to: ew.to } : null
     // in an engine thread; kept for the same rows (the context's, chosen by the spec's units) and spec
-    eventStudy = await engineTask({ kind: 'estimate', rows: packRows(rows), spec }, `trends ${rowsIdentity(ctx.data)} ${canonicalJson(spec)}`)
+    eventStudy = await engineTask(() => ({ kind: 'estimate', rows: packRows(rows), spec }), `trends ${rowsIdentity(ctx.data)} ${canonicalJson(spec)}`, { readOnly: true }) // read-only: nothing here changes it
     warnings.push(...eventStudy.warnings)
   }
   catch (e) {
