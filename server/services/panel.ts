@@ -4,7 +4,7 @@
  * release id among imported releases). `release` limits the read to given releases (the
  * ones a study run used), `asOf` to releases imported by then: both reproduce older reads.
  * The default read is served by panel_cells (kept current by the importer); reads of older
- * releases by the index observations_panel_read (measure, jurisdiction, period, release).
+ * releases by the observations key (release, measure, jurisdiction, period).
  *
  * The default read of a large panel streams its cells with COPY ... TO STDOUT in the order of
  * panel_cells' primary key (no sort in the database) and puts the units in code order here,
@@ -71,8 +71,8 @@ export async function readPanelCells(pool: pg.Pool, q: Omit<PanelQuery, 'format'
   }
   // The default read (newest release per cell) comes from panel_cells, which the importer
   // keeps current: one range scan of its primary key. Reads limited to releases or to a
-  // moment pick the newest per cell from observations: a backward scan of
-  // observations_panel_read delivers each cell's newest release first, so DISTINCT ON needs no sort.
+  // moment pick the newest per cell from observations: the rows of those releases (the key
+  // starts with the release), sorted so that DISTINCT ON keeps each cell's newest release.
   const current = !q.release.length && !q.asOf
   let out: PanelRow[]
   let used: number[]

@@ -64,7 +64,7 @@ async function importUnderWay(file: Awaited<ReturnType<typeof bigImport>>) {
 }
 
 /**
- * Holds imports at their panel_cells upsert (a SHARE lock conflicts with the insert's ROW
+ * Holds imports at their panel_cells update (a SHARE lock conflicts with the update's ROW
  * EXCLUSIVE lock) until the returned function is called, so a test's cancel or kill surely lands
  * before the import commits, however fast the import is.
  */

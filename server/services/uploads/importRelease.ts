@@ -3,8 +3,9 @@
  * transaction, all or nothing. Used by the upload job, the demo seed and the benchmark,
  * so it takes a pg.Pool and no Nitro helpers.
  *
- * Rows go in as large multi-row batches (INSERT ... SELECT FROM unnest of arrays), sorted
- * by the panel-read index order; the rows they refer to are locked once, not per row. Any failure (bad data found on re-check, a lost
+ * Rows go in through COPY and set operations (copyObservations.ts), sorted by the panel's
+ * key; the rows they refer to are locked once, not per row, and imports of the same measure
+ * take turns (an advisory lock per measure, held to commit). Any failure (bad data found on re-check, a lost
  * connection, a killed process) rolls the transaction back: the release is marked
  * failed with its problems and holds no observations.
  */
@@ -17,6 +18,9 @@ import { problemMessage, type MeasureInfo, type Observations, type Registry } fr
 import { copyObservations } from './copyObservations'
 
 export type Queryable = Pick<pg.PoolClient, 'query'>
+
+/** First key of the advisory lock an import takes per measure (the second is the measure id). */
+export const MEASURE_IMPORT_LOCK = 7_431_001
 export type Progress = (fraction: number, message: string) => Promise<void> | void
 
 export async function loadRegistry(db: Queryable): Promise<Registry> {
@@ -108,6 +112,9 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
         [release.created_by, row!.id, JSON.stringify({ ...row, derivedFrom: `release ${releaseId}` })])
     }
     const measureIds = checked.observations.measureKeys.map(k => registry.measures.get(k)!.id)
+    // one import at a time per measure (in id order, so two imports never wait on each other
+    // crosswise): panel_cells is brought up to date with set operations that assume it
+    for (const id of [...new Set(measureIds)].sort((a, b) => a - b)) await client.query('SELECT pg_advisory_xact_lock($1, $2)', [MEASURE_IMPORT_LOCK, id])
     await lockReferences(client, releaseId, measureIds, checked.observations)
     const total = checked.observations.length
     await copyObservations(client, releaseId, checked.observations, measureIds, done =>

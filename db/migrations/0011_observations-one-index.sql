@@ -1,0 +1,1 @@
+DROP INDEX "observations_panel_read";
