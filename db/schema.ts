@@ -124,6 +124,12 @@ export const sourceReleases = pgTable('source_releases', {
   createdBy: integer('created_by').references(() => users.id),
   createdAt: createdAt(),
   importedAt: timestamp('imported_at', { withTimezone: true }),
+  /**
+   * The measures the release has values for, set when its import is done (cached study data
+   * of other measures then stays valid). Null only where an import could not say: such a
+   * release counts as touching every measure.
+   */
+  measureIds: integer('measure_ids').array(),
 }, t => [index('source_releases_source_checksum').on(t.sourceId, t.checksum)])
 
 export const measures = pgTable('measures', {

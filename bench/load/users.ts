@@ -14,7 +14,8 @@ export class Session {
     return [...this.cookies].map(([k, v]) => `${k}=${v}`).join('; ')
   }
 
-  async send(method: string, path: string, body?: unknown, form?: URLSearchParams): Promise<{ status: number, body: any }> {
+  /** With `parse` false the reply is read in full but parsed only when it is an error (what a load user needs). */
+  async send(method: string, path: string, body?: unknown, form?: URLSearchParams, parse = true): Promise<{ status: number, body: any }> {
     const headers: Record<string, string> = { 'x-forwarded-for': this.address, cookie: this.cookieHeader() }
     let payload: string | URLSearchParams | undefined
     if (form) {
@@ -32,6 +33,7 @@ export class Session {
       this.cookies.set(pair!.slice(0, i), pair!.slice(i + 1))
     }
     const text = await res.text()
+    if (!parse && res.status < 400) return { status: res.status, body: text.length }
     let parsed: unknown = text
     try {
       parsed = text ? JSON.parse(text) : null
@@ -107,10 +109,10 @@ export function act(user: LoadUser, action: Action, r: () => number): Promise<{ 
   const { session, studyId, codes } = user
   const code = () => codes[Math.floor(r() * codes.length)]!
   switch (action) {
-    case 'study': return session.send('GET', `/api/studies/${studyId}`)
-    case 'candidates': return session.send('GET', `/api/studies/${studyId}/candidates`)
-    case 'pool': return session.send('PUT', `/api/studies/${studyId}/pool`, { decisions: [{ jurisdiction: code(), included: r() < 0.7, reason: 'Load benchmark change' }] })
-    case 'did': return session.send('POST', `/api/studies/${studyId}/runs`, { design: 'did' })
-    case 'panel': return session.send('GET', `/api/panel?measure=eviction_filings&units=${[...new Set([TREATED, code(), code(), code()])].join(',')}&from=2015-01&to=2019-12`)
+    case 'study': return session.send('GET', `/api/studies/${studyId}`, undefined, undefined, false)
+    case 'candidates': return session.send('GET', `/api/studies/${studyId}/candidates`, undefined, undefined, false)
+    case 'pool': return session.send('PUT', `/api/studies/${studyId}/pool`, { decisions: [{ jurisdiction: code(), included: r() < 0.7, reason: 'Load benchmark change' }] }, undefined, false)
+    case 'did': return session.send('POST', `/api/studies/${studyId}/runs`, { design: 'did' }, undefined, false)
+    case 'panel': return session.send('GET', `/api/panel?measure=eviction_filings&units=${[...new Set([TREATED, code(), code(), code()])].join(',')}&from=2015-01&to=2019-12`, undefined, undefined, false)
   }
 }

@@ -8,10 +8,16 @@ export type Db = NodePgDatabase<typeof schema>
 let pool: pg.Pool | undefined
 let handle: Db | undefined
 
+/** Connections per process (COUNTERPART_DB_CONNECTIONS, default 20): a request's transaction keeps its connection across several round trips. */
+export function poolSize(): number {
+  const asked = Number(process.env.COUNTERPART_DB_CONNECTIONS)
+  return Number.isInteger(asked) && asked > 0 ? asked : 20
+}
+
 export function usePool(): pg.Pool {
   if (!pool) {
     const url = process.env.DATABASE_URL || useRuntimeConfig().databaseUrl
-    pool = new pg.Pool({ connectionString: url, max: 10 })
+    pool = new pg.Pool({ connectionString: url, max: poolSize() })
   }
   return pool
 }

@@ -70,8 +70,8 @@ const safeCompare = (a: string, b: string) => {
 /**
  * Recently built contexts, so a pool change re-scores without reading the panel again. The
  * key holds every study field the context depends on and a digest of the registry tables it
- * reads (imported releases, policy events, neighbour links, jurisdictions): any change there
- * builds a fresh context. A run takes its units' rows from the context (subsetStudyRows): the
+ * reads (imported releases of the study's measures, policy events, neighbour links,
+ * jurisdictions): any change there builds a fresh context. A run takes its units' rows from the context (subsetStudyRows): the
  * rows a new read would give, since the context is rebuilt as soon as a release is imported.
  */
 const contexts = new Map<string, { at: number, ctx: CandidateContext }>()
@@ -80,11 +80,14 @@ const CONTEXT_TTL_MS = 5 * 60_000
 const CONTEXT_CACHE_SIZE = 100
 
 async function contextKey(study: Study, maxMissing: number): Promise<string> {
+  // imported releases of the study's measures only: an import of another measure changes none of its rows
+  const keys = [study.outcome, ...study.covariates, ...(study.denominator ? [study.denominator] : [])]
   const { rows: [digest] } = await usePool().query<{ d: string }>(`SELECT concat_ws(':',
-    (SELECT count(*) || '-' || coalesce(sum(id), 0) FROM source_releases WHERE status = 'done'),
+    (SELECT count(*) || '-' || coalesce(sum(id), 0) FROM source_releases WHERE status = 'done'
+       AND (measure_ids IS NULL OR measure_ids && ARRAY(SELECT id FROM measures WHERE key = ANY($1::text[])))),
     (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || period || kind || policy)), 0) FROM policy_events),
     (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || '-' || neighbour_id)), 0) FROM jurisdiction_neighbours),
-    (SELECT count(*) || '-' || coalesce(sum(hashtext(code || name || kind || coalesce(region, '') || coalesce(archived_at::text, ''))), 0) FROM jurisdictions)) AS d`)
+    (SELECT count(*) || '-' || coalesce(sum(hashtext(code || name || kind || coalesce(region, '') || coalesce(archived_at::text, ''))), 0) FROM jurisdictions)) AS d`, [keys])
   const { outcome, covariates, denominator, transform, treated, start, window, interventions } = study
   return JSON.stringify([study.id, outcome, covariates, denominator, transform, treated, start, window, interventions, maxMissing, digest!.d])
 }

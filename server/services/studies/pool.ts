@@ -13,7 +13,7 @@ import type { SessionUser } from '../../utils/auth'
 import { isEngineError } from '~~/server/engine'
 import { engineTask, packRows, rowsIdentity } from '~~/server/utils/enginePool'
 import { canonicalJson } from './fingerprint'
-import { assemblePool, candidateContext, poolDecisions, type CandidateContext } from './candidates'
+import { assemblePool, candidateContext, type CandidateContext } from './candidates'
 import { buildRunSpec } from './spec'
 
 export async function savePool(study: Study, user: SessionUser, body: z.output<typeof poolPutSchema>, k = SUGGESTED_POOL_SIZE) {
@@ -33,9 +33,11 @@ export async function savePool(study: Study, user: SessionUser, body: z.output<t
   const db = useDb()
   const ids = new Map((await db.select({ id: jurisdictions.id, code: jurisdictions.code }).from(jurisdictions)
     .where(inArray(jurisdictions.code, body.decisions.map(d => d.jurisdiction)))).map(r => [r.code, r.id]))
-  await db.transaction(async (tx) => {
+  const decided = await db.transaction(async (tx) => {
     await lockStudyForChange(tx, study.id)
-    const before = await tx.select().from(studyPoolDecisions).where(eq(studyPoolDecisions.studyId, study.id))
+    const before = await tx.select({ code: jurisdictions.code, jurisdictionId: studyPoolDecisions.jurisdictionId, included: studyPoolDecisions.included, reason: studyPoolDecisions.reason })
+      .from(studyPoolDecisions).innerJoin(jurisdictions, eq(jurisdictions.id, studyPoolDecisions.jurisdictionId))
+      .where(eq(studyPoolDecisions.studyId, study.id))
     const values = body.decisions.map(d => ({ studyId: study.id, jurisdictionId: ids.get(d.jurisdiction)!, included: d.included, reason: d.reason, decidedBy: user.id, decidedAt: new Date() }))
     await tx.insert(studyPoolDecisions).values(values).onConflictDoUpdate({
       target: [studyPoolDecisions.studyId, studyPoolDecisions.jurisdictionId],
@@ -47,8 +49,12 @@ export async function savePool(study: Study, user: SessionUser, body: z.output<t
       before: before.map(b => ({ jurisdictionId: b.jurisdictionId, included: b.included, reason: b.reason })),
       after: body.decisions,
     })
+    // the decisions as they now stand (the study is locked: nobody else changed them)
+    const now = new Map(before.map(b => [b.code, { jurisdiction: b.code, included: b.included, reason: b.reason }]))
+    for (const d of body.decisions) now.set(d.jurisdiction, { jurisdiction: d.jurisdiction, included: d.included, reason: d.reason ?? null })
+    return [...now.values()]
   })
-  const pool = assemblePool(ctx, await poolDecisions(study.id), k)
+  const pool = assemblePool(ctx, decided, k)
   return { ...pool, preview: await previewEstimate(ctx, pool.rows.filter(r => r.included).map(r => r.jurisdiction)) }
 }
 

@@ -10,6 +10,7 @@ import type { RunData } from '~~/db/jsonTypes'
 import { isEngineError, type EstimateResult, type Spec } from '~~/server/engine'
 import { engineTask, packRows } from '~~/server/utils/enginePool'
 import type { RunCreate } from '#shared/schemas/studies'
+import type { SessionUser } from '~~/server/utils/auth'
 import { runCreateSchema } from '#shared/schemas/studies'
 import type { z } from 'zod'
 import { compareRuns } from './compareRuns'
@@ -72,7 +73,8 @@ function present(run: RunRow, previous?: RunRow | PreviousRun) {
 }
 export type RunView = ReturnType<typeof present>
 
-export async function createRun(study: Study, userId: number, input: RunInput | RunCreate) {
+export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'name'>, input: RunInput | RunCreate) {
+  const userId = user.id
   const { design, options } = runCreateSchema.parse(input)
   const ctx = await candidateContext(study)
   const decisions = await poolDecisions(study.id)
@@ -125,12 +127,9 @@ export async function createRun(study: Study, userId: number, input: RunInput | 
     return row!
   })
   // answered from what was just stored (reading the run back would parse its JSON twice more)
-  const [[author], previous] = await Promise.all([
-    db.select({ name: users.name }).from(users).where(eq(users.id, userId)),
-    previousRun(study.id, design, stored.id),
-  ])
+  const previous = await previousRun(study.id, design, stored.id)
   // in the form a read gives (jsonb orders object keys): the reply equals a later GET of the run
-  const run: RunRow = { id: stored.id, studyId: study.id, design, spec: asStoredJson(spec), fingerprint, releaseIds: read.releaseIds, data: asStoredJson(data), result: asStoredJson(result), createdAt: stored.createdAt, createdBy: userId, createdByName: author?.name ?? null }
+  const run: RunRow = { id: stored.id, studyId: study.id, design, spec: asStoredJson(spec), fingerprint, releaseIds: read.releaseIds, data: asStoredJson(data), result: asStoredJson(result), createdAt: stored.createdAt, createdBy: userId, createdByName: user.name }
   return present(run, previous)
 }
 

@@ -7,11 +7,16 @@
  */
 const ASCII = /^[\x00-\x7F]*$/
 
-function byJsonbOrder(a: string, b: string): number {
-  if (ASCII.test(a) && ASCII.test(b)) return a.length !== b.length ? a.length - b.length : a < b ? -1 : a > b ? 1 : 0
-  const x = Buffer.from(a)
-  const y = Buffer.from(b)
-  return x.length !== y.length ? x.length - y.length : Buffer.compare(x, y)
+/** Keys in jsonb's order; the usual all-ASCII keys compare as strings (their bytes are their characters). */
+function jsonbOrder(keys: string[]): string[] {
+  if (keys.length < 2) return keys
+  if (keys.every(k => ASCII.test(k))) return keys.sort((a, b) => (a.length !== b.length ? a.length - b.length : a < b ? -1 : a > b ? 1 : 0))
+  const bytes = new Map(keys.map(k => [k, Buffer.from(k)]))
+  return keys.sort((a, b) => {
+    const x = bytes.get(a)!
+    const y = bytes.get(b)!
+    return x.length !== y.length ? x.length - y.length : Buffer.compare(x, y)
+  })
 }
 
 export function asStoredJson<T>(value: T): T {
@@ -29,7 +34,7 @@ function stored(v: unknown): unknown {
     return out
   }
   const obj = v as Record<string, unknown>
-  const keys = Object.keys(obj).filter(k => obj[k] !== undefined && typeof obj[k] !== 'function' && typeof obj[k] !== 'symbol').sort(byJsonbOrder)
+  const keys = jsonbOrder(Object.keys(obj).filter(k => obj[k] !== undefined && typeof obj[k] !== 'function' && typeof obj[k] !== 'symbol'))
   const out: Record<string, unknown> = {}
   for (const k of keys) out[k] = stored(obj[k])
   return out

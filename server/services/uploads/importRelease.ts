@@ -121,8 +121,9 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
       onProgress(0.2 + 0.75 * (done / total), `Imported ${done.toLocaleString('en')} of ${total.toLocaleString('en')} values`))
 
     await client.query(
-      `UPDATE source_releases SET status = 'done', row_count = $2, imported_at = now(), errors = $3 WHERE id = $1`,
-      [releaseId, total, checked.warnings.length ? JSON.stringify(checked.warnings.map(w => ({ row: null, column: null, problem: w, warning: true }))) : null])
+      `UPDATE source_releases SET status = 'done', row_count = $2, imported_at = now(), errors = $3, measure_ids = $4 WHERE id = $1`,
+      [releaseId, total, checked.warnings.length ? JSON.stringify(checked.warnings.map(w => ({ row: null, column: null, problem: w, warning: true }))) : null,
+        [...new Set(measureIds)].sort((a, b) => a - b)])
     const result: ImportResult = { releaseId, rowCount: total, measures: checked.summary.measures, createdMeasures, warnings: checked.warnings }
     await client.query(
       `INSERT INTO audit_log (user_id, action, entity, entity_id, after) VALUES ($1, 'import', 'source_release', $2, $3)`,

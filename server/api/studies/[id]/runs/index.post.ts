@@ -10,7 +10,7 @@ export default defineEventHandler(async (event) => {
   const { id } = await getValidatedRouterParams(event, check(studyIdParamSchema, 'path'))
   const { user, study } = await requireStudy(event, id, 'write')
   const body = await readValidatedBody(event, check(runCreateSchema))
-  const run = await createRun(study, user.id, body)
+  const run = await createRun(study, user, body)
   setResponseStatus(event, 201)
   return run
 })
