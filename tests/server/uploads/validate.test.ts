@@ -46,6 +46,15 @@ describe('long layout with value columns', () => {
     expect(v.observations.length).toBe(0)
   })
 
+  it('sees one cell in two spellings of its period ("2020-2", " 2020-02") as a duplicate', async () => {
+    const v = await check('code,period,filings\nAA-01,2020-02,5\nAA-01,2020-2,6\nAA-01, 2020-02 ,7\nAA-02,2020-2,1\n', long)
+    expect(v.ok).toBe(false)
+    expect(v.problems).toEqual([
+      { row: 3, column: 'filings', problem: 'Duplicate: filings for this jurisdiction and period 2020-02 is also in row 2.' },
+      { row: 4, column: 'filings', problem: 'Duplicate: filings for this jurisdiction and period 2020-02 is also in row 2.' },
+    ])
+  })
+
   it('takes decimal commas as a problem with a hint, and the missing markers as blanks', async () => {
     const v = await check('code,period,filings\nAA-01,2020-01,"5,5"\nAA-01,2020-02,..\n', { ...long, missing: ['..'] })
     expect(v.problems).toEqual([{ row: 2, column: 'filings', problem: '"5,5" is not a number (use "." for decimals and no thousands separator).' }])

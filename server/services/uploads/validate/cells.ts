@@ -30,20 +30,74 @@ export function readValue(cell: Cell, missing: Set<string>): number | null | str
 const PERIOD_SLOTS = 2 ** 22
 
 /**
- * Where each (jurisdiction, measure, period) cell was first seen: one map per measure slot,
+ * Non-negative integer keys (below 2^53) to the row first seen with them: open addressing over
+ * typed arrays, so a million cells cost two arrays instead of a million map entries for the
+ * garbage collector (the check of a million-row upload spent most of its time there).
+ */
+export class FirstSeen {
+  private keys: Float64Array
+  private rows: Int32Array
+  private used = 0
+  private mask: number
+
+  constructor(capacity = 1024) {
+    let size = 16
+    while (size < capacity * 2) size *= 2
+    this.keys = new Float64Array(size).fill(-1)
+    this.rows = new Int32Array(size)
+    this.mask = size - 1
+  }
+
+  get size(): number {
+    return this.used
+  }
+
+  private slot(key: number): number {
+    const lo = key % 4294967296
+    const hi = (key - lo) / 4294967296
+    let h = Math.imul((lo | 0) ^ Math.imul(hi | 0, 0x9E3779B1), 0x85EBCA6B)
+    h ^= h >>> 15
+    let at = h & this.mask
+    while (this.keys[at] !== -1 && this.keys[at] !== key) at = (at + 1) & this.mask
+    return at
+  }
+
+  /** The row already recorded for `key`, or undefined after recording `row` for it. */
+  firstRow(key: number, row: number): number | undefined {
+    const at = this.slot(key)
+    if (this.keys[at] === key) return this.rows[at]
+    this.keys[at] = key
+    this.rows[at] = row
+    if (++this.used * 2 > this.keys.length) this.grow()
+    return undefined
+  }
+
+  private grow(): void {
+    const { keys, rows } = this
+    this.keys = new Float64Array(keys.length * 2).fill(-1)
+    this.rows = new Int32Array(keys.length * 2)
+    this.mask = this.keys.length - 1
+    for (let i = 0; i < keys.length; i++) {
+      if (keys[i] === -1) continue
+      const at = this.slot(keys[i]!)
+      this.keys[at] = keys[i]!
+      this.rows[at] = rows[i]!
+    }
+  }
+}
+
+/**
+ * Where each (jurisdiction, measure, period) cell was first seen: one table per measure slot,
  * keyed by jurisdiction id x 2^22 + period slot (exact below 2^53 for any int32 id), so any
  * number of measures packs without collisions.
  */
 export class CellRegister {
-  private readonly byMeasure: Map<number, number>[] = []
+  private readonly byMeasure: FirstSeen[] = []
 
   /** The row that already holds the cell, or undefined after recording `row` for it. */
   firstRow(jurisdictionId: number, measureSlot: number, periodSlot: number, row: number): number | undefined {
     if (periodSlot >= PERIOD_SLOTS) throw new Error(`CellRegister: period slot ${periodSlot} is past ${PERIOD_SLOTS}.`)
-    const seen = (this.byMeasure[measureSlot] ??= new Map())
-    const key = jurisdictionId * PERIOD_SLOTS + periodSlot
-    const first = seen.get(key)
-    if (first === undefined) seen.set(key, row)
-    return first
+    const seen = (this.byMeasure[measureSlot] ??= new FirstSeen())
+    return seen.firstRow(jurisdictionId * PERIOD_SLOTS + periodSlot, row)
   }
 }

@@ -25,15 +25,21 @@ export function periodOfDate(d: Date, frequency: MeasureFrequency): string {
   }
 }
 
-/** A reader that gives each distinct period a slot number (0, 1, 2, ...) or a problem text. */
+/**
+ * A reader that gives each distinct period a slot number (0, 1, 2, ...) or a problem text.
+ * Each distinct cell text is read once (per frequency); texts naming the same period (" 2020-01"
+ * and "2020-01") share its slot, so the duplicate check sees them as one cell.
+ */
 export function periodReader(): (c: Cell, frequency: MeasureFrequency) => PeriodSlot | string {
-  const cache = new Map<string, PeriodSlot | string>()
-  let slots = 0
+  const caches = new Map<MeasureFrequency, Map<string, PeriodSlot | string>>()
+  const slotOf = new Map<string, number>()
   return (c, frequency) => {
-    const text = c instanceof Date ? `date:${c.getTime()}` : cellText(c).trim()
-    const key = `${frequency}|${text}`
-    const hit = cache.get(key)
+    let cache = caches.get(frequency)
+    if (!cache) caches.set(frequency, (cache = new Map()))
+    const raw = c instanceof Date ? `date:${c.getTime()}` : cellText(c)
+    const hit = cache.get(raw)
     if (hit !== undefined) return hit
+    const text = raw.trim()
     let out: PeriodSlot | string
     if (c == null || text === '') out = 'No period given.'
     else {
@@ -45,13 +51,15 @@ export function periodReader(): (c: Cell, frequency: MeasureFrequency) => Period
           if (p.frequency !== frequency) throw new PeriodError(`"${clip(text)}" is a ${p.frequency === 'integer' ? 'whole number' : p.frequency}, but the measure is recorded by ${frequency}.`)
           canonical = p.canonical
         }
-        out = { canonical, slot: slots++ }
+        let slot = slotOf.get(canonical)
+        if (slot === undefined) slotOf.set(canonical, (slot = slotOf.size))
+        out = { canonical, slot }
       }
       catch (e) {
         out = e instanceof PeriodError && text.length <= 40 ? e.message.replace(/^parsePeriod: /, '') : `Cannot read "${clip(text)}" as a period.`
       }
     }
-    cache.set(key, out)
+    cache.set(raw, out)
     return out
   }
 }
