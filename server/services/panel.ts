@@ -16,6 +16,9 @@ import { readCurrentCells } from './panelCells'
 import { parsePeriod } from '../../shared/utils/periods'
 import type { PanelQuery, PanelResponse, PanelRow } from '../../shared/schemas/uploads'
 
+/** A release as the panel names it (imported_at: a Date from a column, an ISO text from JSON). */
+interface ReleaseRow { id: number, source: string, label: string | null, imported_at: Date | string | null }
+
 export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): Promise<PanelResponse> {
   return (await readPanelCells(pool, q)).panel
 }
@@ -26,11 +29,15 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
  */
 export async function readPanelCells(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): Promise<{ panel: PanelResponse, releasesByUnit: Map<string, number[]> | null }> {
   // the measure and the jurisdictions (the asked ones, or all) in one query, codes in code order
-  const { rows: [measure] } = await pool.query<{ id: number, key: string, label: string, unit: string, frequency: string, units: [number, string][] }>(
-    `SELECT id, key, label, unit, frequency,
+  // (and the imported releases with values of the measure, which the default read names)
+  const { rows: [measure] } = await pool.query<{ id: number, key: string, label: string, unit: string, frequency: string, units: [number, string][], releases: ReleaseRow[] }>(
+    `SELECT m.id, m.key, m.label, m.unit, m.frequency,
        (SELECT coalesce(json_agg(json_build_array(j.id, j.code) ORDER BY j.code), '[]') FROM jurisdictions j
-         WHERE $2::text[] IS NULL OR j.code = ANY($2::text[])) AS units
-     FROM measures WHERE key = $1`, [q.measure, q.units.length ? q.units : null])
+         WHERE $2::text[] IS NULL OR j.code = ANY($2::text[])) AS units,
+       (SELECT coalesce(json_agg(json_build_object('id', r.id, 'source', s.name, 'label', r.label, 'imported_at', r.imported_at)), '[]')
+          FROM source_releases r JOIN sources s ON s.id = r.source_id
+         WHERE r.status = 'done' AND (r.measure_ids IS NULL OR m.id = ANY(r.measure_ids))) AS releases
+     FROM measures m WHERE m.key = $1`, [q.measure, q.units.length ? q.units : null])
   if (!measure) throw createError({ statusCode: 404, message: `No measure with key "${q.measure}".` })
   for (const [name, value] of [['from', q.from], ['to', q.to]] as const) {
     if (value && parsePeriod(value).frequency !== measure.frequency) {
@@ -113,18 +120,22 @@ export async function readPanelCells(pool: pg.Pool, q: Omit<PanelQuery, 'format'
     }
     used = [...new Set(rows.map(r => r[3]))]
   }
-  const { rows: releases } = used.length
-    ? await pool.query<{ id: number, source: string, label: string | null, imported_at: Date | null }>(
-      `SELECT r.id, s.name AS source, r.label, r.imported_at FROM source_releases r JOIN sources s ON s.id = r.source_id
-       WHERE r.id = ANY($1::int[]) ORDER BY r.id`, [used])
-    : { rows: [] }
+  // the releases read with the measure, unless one landed in between (then read them now)
+  const known = new Map(measure.releases.map(r => [r.id, r]))
+  const releases = used.every(id => known.has(id))
+    ? used.map(id => known.get(id)!).sort((a, b) => a.id - b.id)
+    : used.length
+      ? (await pool.query<ReleaseRow>(
+          `SELECT r.id, s.name AS source, r.label, r.imported_at FROM source_releases r JOIN sources s ON s.id = r.source_id
+           WHERE r.id = ANY($1::int[]) ORDER BY r.id`, [used])).rows
+      : []
   const panel = {
     measure: measure.key,
     label: measure.label,
     unit: measure.unit,
     frequency: measure.frequency,
     rows: out,
-    releases: releases.map(r => ({ id: r.id, source: r.source, label: r.label, importedAt: r.imported_at?.toISOString() ?? null })),
+    releases: releases.map(r => ({ id: r.id, source: r.source, label: r.label, importedAt: r.imported_at === null ? null : new Date(r.imported_at).toISOString() })),
   }
   return { panel, releasesByUnit }
 }

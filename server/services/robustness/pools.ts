@@ -10,8 +10,8 @@ import { assemblePool, candidateContext, poolDecisions } from '../studies/candid
 import type { Study } from '~~/db/schema'
 
 export async function namedPools(study: Study, runComparison: string[]): Promise<NamedPool[]> {
-  const ctx = await candidateContext(study)
-  const { rows, summary } = assemblePool(ctx, await poolDecisions(study.id))
+  const [ctx, decisions] = await Promise.all([candidateContext(study), poolDecisions(study.id)])
+  const { rows, summary } = assemblePool(ctx, decisions)
   const unflagged = rows.filter(r => !r.flagged).map(r => r.jurisdiction)
   const weighted = rows.filter(r => (r.weight ?? 0) > 0).map(r => r.jurisdiction)
   const regions = [...new Set(study.treated.map(t => ctx.info.get(t)?.region).filter((r): r is string => !!r))]

@@ -39,7 +39,7 @@ export interface CandidateContext {
   scores: DonorScores
   candidates: string[]
   flags: Map<string, Exclusion[]>
-  info: Map<string, { name: string, kind: string, region: string | null }>
+  info: Map<string, { id: number, name: string, kind: string, region: string | null }>
   prePeriods: Set<string>
   maxMissing: number
   /** Weighted-comparison weights against every unflagged candidate (see poolWeights.ts). */

@@ -5,7 +5,7 @@
  * returned with a preview of the did estimate on the new pool.
  */
 import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
-import { eq, inArray, sql } from 'drizzle-orm'
+import { eq, sql } from 'drizzle-orm'
 import { jurisdictions, studies, studyPoolDecisions, type Study } from '~~/db/schema'
 import type { z } from 'zod'
 import type { poolPutSchema } from '#shared/schemas/studies'
@@ -31,8 +31,8 @@ export async function savePool(study: Study, user: SessionUser, body: z.output<t
   })
   if (issues.length) badRequest(issues[0]!.message, issues)
   const db = useDb()
-  const ids = new Map((await db.select({ id: jurisdictions.id, code: jurisdictions.code }).from(jurisdictions)
-    .where(inArray(jurisdictions.code, body.decisions.map(d => d.jurisdiction)))).map(r => [r.code, r.id]))
+  // every decision names a candidate (checked above), and the context knows each candidate's id
+  const ids = new Map(body.decisions.map(d => [d.jurisdiction, ctx.info.get(d.jurisdiction)!.id]))
   const decided = await db.transaction(async (tx) => {
     await lockStudyForChange(tx, study.id)
     const before = await tx.select({ code: jurisdictions.code, jurisdictionId: studyPoolDecisions.jurisdictionId, included: studyPoolDecisions.included, reason: studyPoolDecisions.reason })

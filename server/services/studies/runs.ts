@@ -40,8 +40,8 @@ type RunRow = StudyRun & { createdByName: string | null }
 /** What compareRuns reads of the previous run: its spec, fingerprint, releases and effect (not the whole result). */
 type PreviousRun = Pick<StudyRun, 'id' | 'spec' | 'fingerprint' | 'releaseIds'> & { result: { effect: unknown } }
 
-/** The run of the same design just before `runId`, as much as compareRuns needs. */
-async function previousRun(studyId: number, design: StudyRun['design'], runId: number): Promise<PreviousRun | undefined> {
+/** The run of the same design just before `runId` (or the newest), as much as compareRuns needs. */
+async function previousRun(studyId: number, design: StudyRun['design'], runId?: number): Promise<PreviousRun | undefined> {
   const [previous] = await useDb().select({
     id: studyRuns.id,
     spec: studyRuns.spec,
@@ -49,7 +49,7 @@ async function previousRun(studyId: number, design: StudyRun['design'], runId: n
     releaseIds: studyRuns.releaseIds,
     effect: sql<unknown>`${studyRuns.result} -> 'effect'`.mapWith(studyRuns.result),
   }).from(studyRuns)
-    .where(and(eq(studyRuns.studyId, studyId), eq(studyRuns.design, design), lt(studyRuns.id, runId)))
+    .where(and(eq(studyRuns.studyId, studyId), eq(studyRuns.design, design), runId === undefined ? undefined : lt(studyRuns.id, runId)))
     .orderBy(desc(studyRuns.id)).limit(1)
   return previous && { id: previous.id, spec: previous.spec, fingerprint: previous.fingerprint, releaseIds: previous.releaseIds, result: { effect: previous.effect } }
 }
@@ -76,8 +76,7 @@ export type RunView = ReturnType<typeof present>
 export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'name'>, input: RunInput | RunCreate) {
   const userId = user.id
   const { design, options } = runCreateSchema.parse(input)
-  const ctx = await candidateContext(study)
-  const decisions = await poolDecisions(study.id)
+  const [ctx, decisions] = await Promise.all([candidateContext(study), poolDecisions(study.id)])
   const comparison = includedPool(ctx, decisions)
   const usesPool = runUsesPool(design, options)
   if (usesPool && !comparison.length) badRequest('The pool is empty: include at least one comparison jurisdiction on the Pool step.')
@@ -118,8 +117,13 @@ export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'na
   }
   const data: RunData = { source, frequency: read.frequency, releases: read.releases, pool: assemblePool(ctx, decisions).rows }
   const db = useDb()
+  let previous: Promise<PreviousRun | undefined> | undefined
   const stored = await db.transaction(async (tx) => {
     await lockStudyForChange(tx, study.id)
+    // with the study locked no other run of it can land before this one commits: the previous run
+    // of the design is the newest one committed now, read on another connection meanwhile
+    previous = previousRun(study.id, design)
+    previous.catch(() => {}) // awaited below; a failed transaction must not leave it unhandled
     const [row] = await tx.insert(studyRuns).values({
       studyId: study.id, design, spec, fingerprint, releaseIds: read.releaseIds, data, result, createdBy: userId,
     }).returning({ id: studyRuns.id, createdAt: studyRuns.createdAt })
@@ -127,10 +131,9 @@ export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'na
     return row!
   })
   // answered from what was just stored (reading the run back would parse its JSON twice more)
-  const previous = await previousRun(study.id, design, stored.id)
   // in the form a read gives (jsonb orders object keys): the reply equals a later GET of the run
   const run: RunRow = { id: stored.id, studyId: study.id, design, spec: asStoredJson(spec), fingerprint, releaseIds: read.releaseIds, data: asStoredJson(data), result: asStoredJson(result), createdAt: stored.createdAt, createdBy: userId, createdByName: user.name }
-  return present(run, previous)
+  return present(run, await previous)
 }
 
 export async function listRuns(studyId: number) {

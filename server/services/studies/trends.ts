@@ -71,8 +71,8 @@ export function readLeadTest(result: EstimateResult | null) {
 
 /** `window`: the event study's window in periods from the start (ends binned); by default it follows the data. */
 export async function studyTrends(study: Study, window?: { from: number, to: number }) {
-  const ctx = await candidateContext(study)
-  const pool = includedPool(ctx, await poolDecisions(study.id))
+  const [ctx, decisions] = await Promise.all([candidateContext(study), poolDecisions(study.id)])
+  const pool = includedPool(ctx, decisions)
   const treated = new Set(study.treated)
   const inPool = new Set(pool)
   const rows = ctx.data.rows.filter(r => treated.has(r.jurisdiction) || inPool.has(r.jurisdiction))

@@ -52,8 +52,8 @@ async function revisedCells(measures: string[], units: string[], from: string | 
 const toSeries = (xs: (number | null)[]) => Float64Array.from(xs, v => (v == null ? NaN : v))
 
 export async function studyEvidence(study: Study): Promise<StudyEvidence> {
-  const ctx = await candidateContext(study)
-  const pool = includedPool(ctx, await poolDecisions(study.id))
+  const [ctx, decisions] = await Promise.all([candidateContext(study), poolDecisions(study.id)])
+  const pool = includedPool(ctx, decisions)
   const trends = await studyTrends(study)
   const periods = trends.periods
   const firstPost = trends.prePeriods.findIndex(pre => !pre)
