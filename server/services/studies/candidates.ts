@@ -68,42 +68,54 @@ const safeCompare = (a: string, b: string) => {
 }
 
 /**
- * Recently built contexts, so a pool change re-scores without reading the panel again. The
- * key holds every study field the context depends on and a digest of the registry tables it
- * reads (imported releases of the study's measures, policy events, neighbour links,
- * jurisdictions): any change there builds a fresh context. A run takes its units' rows from the context (subsetStudyRows): the
- * rows a new read would give, since the context is rebuilt as soon as a release is imported.
+ * Recently built contexts, so a pool change re-scores without reading the panel again. One per
+ * study and set of the fields the context depends on, kept with a digest of the registry it
+ * read, taken before reading: imported releases of the study's measures, policy events,
+ * neighbour links, and the jurisdictions that existed then (id up to the largest then: a
+ * jurisdiction added later has no rows of the study until a release brings them, which the
+ * release part notices). A different digest builds a fresh context. A run takes its units' rows
+ * from the context (subsetStudyRows): the rows a new read would give, since the context is
+ * rebuilt as soon as a release of its measures is imported.
  */
-const contexts = new Map<string, { at: number, ctx: CandidateContext }>()
+const contexts = new Map<string, { at: number, ctx: CandidateContext, digest: string, lastJurisdiction: number }>()
 const CONTEXT_TTL_MS = 5 * 60_000
 /** Kept contexts, least recently used dropped first: room for every study in use (50 at once under load). */
 const CONTEXT_CACHE_SIZE = 100
 
-async function contextKey(study: Study, maxMissing: number): Promise<string> {
+/** The registry digest (see above), over jurisdictions up to `lastJurisdiction` (null: up to the largest id now). */
+async function registryDigest(study: Study, lastJurisdiction: number | null): Promise<{ digest: string, lastJurisdiction: number }> {
   // imported releases of the study's measures only: an import of another measure changes none of its rows
   const keys = [study.outcome, ...study.covariates, ...(study.denominator ? [study.denominator] : [])]
-  const { rows: [digest] } = await usePool().query<{ d: string }>(`SELECT concat_ws(':',
-    (SELECT count(*) || '-' || coalesce(sum(id), 0) FROM source_releases WHERE status = 'done'
-       AND (measure_ids IS NULL OR measure_ids && ARRAY(SELECT id FROM measures WHERE key = ANY($1::text[])))),
-    (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || period || kind || policy)), 0) FROM policy_events),
-    (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || '-' || neighbour_id)), 0) FROM jurisdiction_neighbours),
-    (SELECT count(*) || '-' || coalesce(sum(hashtext(code || name || kind || coalesce(region, '') || coalesce(archived_at::text, ''))), 0) FROM jurisdictions)) AS d`, [keys])
-  const { outcome, covariates, denominator, transform, treated, start, window, interventions } = study
-  return JSON.stringify([study.id, outcome, covariates, denominator, transform, treated, start, window, interventions, maxMissing, digest!.d])
+  const { rows: [row] } = await usePool().query<{ d: string, m: number }>(`WITH upto AS (SELECT coalesce($2::int, (SELECT max(id) FROM jurisdictions), 0) AS m)
+    SELECT concat_ws(':',
+      (SELECT count(*) || '-' || coalesce(sum(id), 0) FROM source_releases WHERE status = 'done'
+         AND (measure_ids IS NULL OR measure_ids && ARRAY(SELECT id FROM measures WHERE key = ANY($1::text[])))),
+      (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || period || kind || policy)), 0) FROM policy_events),
+      (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || '-' || neighbour_id)), 0) FROM jurisdiction_neighbours),
+      (SELECT count(*) || '-' || coalesce(sum(hashtext(code || name || kind || coalesce(region, '') || coalesce(archived_at::text, ''))), 0)
+         FROM jurisdictions WHERE id <= (SELECT m FROM upto))) AS d,
+      (SELECT m FROM upto) AS m`, [keys, lastJurisdiction])
+  return { digest: row!.d, lastJurisdiction: row!.m }
 }
 
 /** Reads the rows, scores every candidate and finds the flags (no decisions yet). */
 export async function candidateContext(study: Study, maxMissing = 0.2): Promise<CandidateContext> {
-  const key = await contextKey(study, maxMissing)
-  const hit = contexts.get(key)
-  if (hit && Date.now() - hit.at < CONTEXT_TTL_MS) {
+  const { outcome, covariates, denominator, transform, treated, start, window, interventions } = study
+  const key = JSON.stringify([study.id, outcome, covariates, denominator, transform, treated, start, window, interventions, maxMissing])
+  const kept = contexts.get(key)
+  const fresh = kept && Date.now() - kept.at < CONTEXT_TTL_MS ? kept : undefined
+  const now = await registryDigest(study, fresh?.lastJurisdiction ?? null)
+  if (fresh && fresh.digest === now.digest) {
     contexts.delete(key) // most recently used last
-    contexts.set(key, hit)
-    return { ...hit.ctx, study }
+    contexts.set(key, fresh)
+    return { ...fresh.ctx, study }
   }
+  // a new context, under a digest taken before it reads anything
+  const base = fresh ? await registryDigest(study, null) : now
   const ctx = await buildCandidateContext(study, maxMissing)
+  contexts.delete(key)
   for (const [k, v] of contexts) if (Date.now() - v.at >= CONTEXT_TTL_MS || contexts.size >= CONTEXT_CACHE_SIZE) contexts.delete(k)
-  contexts.set(key, { at: Date.now(), ctx })
+  contexts.set(key, { at: Date.now(), ctx, ...base })
   return ctx
 }
 
