@@ -6,7 +6,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { as, type Client } from '../support/http'
 import { closePool } from '../support/db'
-import { runTag, uploadRelease, waitForJob } from '../support/uploads'
+import { importedRelease, monthlyPanelRegistry, runTag } from '../support/uploads'
 
 let admin: Client
 let analyst: Client
@@ -20,11 +20,7 @@ const mapping = { layout: 'long', jurisdiction: 'code', period: 'month', values:
 const months = Array.from({ length: 24 }, (_, i) => `${2020 + Math.floor(i / 12)}-${String((i % 12) + 1).padStart(2, '0')}`)
 const csv = (codes: string[]) => `code,month,value\n${codes.flatMap((c, u) => months.map((m, i) => `${c},${m},${40 + 2 * u + 0.3 * i + ((i * 5 + u) % 3)}`)).join('\n')}\n`
 
-async function release(codes: string[], label: string) {
-  const res = await uploadRelease(analyst, sourceId, csv(codes), `${label}.csv`, mapping, label)
-  expect(res.status, JSON.stringify(res.body)).toBe(202)
-  expect((await waitForJob(analyst, res.body.jobId)).state).toBe('done')
-}
+const release = (codes: string[], label: string) => importedRelease(analyst, sourceId, csv(codes), label, mapping)
 const candidates = async () => {
   const res = await analyst.get(`/api/studies/${studyId}/candidates`)
   expect(res.status, JSON.stringify(res.body)).toBe(200)
@@ -33,9 +29,7 @@ const candidates = async () => {
 
 beforeAll(async () => {
   ;[admin, analyst] = await Promise.all([as('admin'), as('analyst')])
-  for (const code of [T, ...donors]) expect((await admin.post('/api/jurisdictions', { code, name: `Town ${code}`, kind: 'municipality', region: 'Test' })).status).toBe(201)
-  expect((await admin.post('/api/measures', { key, label: 'Visits', unit: 'visits', kind: 'outcome', frequency: 'month' })).status).toBe(201)
-  sourceId = (await admin.post('/api/sources', { name: `Visits office ${tag}`, publisher: 'Visits office' })).body.id
+  sourceId = await monthlyPanelRegistry(admin, [T, ...donors], key, 'Visits', `Visits office ${tag}`)
   await release([T, ...donors], 'first')
   const s = await analyst.post('/api/studies', { title: `Visits ${tag}`, outcome: key, treated: [T], start: '2021-01' })
   expect(s.status, JSON.stringify(s.body)).toBe(201)

@@ -7,7 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { as, type Client } from '../support/http'
 import { closePool } from '../support/db'
-import { runTag, uploadRelease, waitForJob } from '../support/uploads'
+import { importedRelease, monthlyPanelRegistry, runTag } from '../support/uploads'
 import { readRowsBack } from '../support/studies'
 import { fingerprintRows } from '../../server/services/studies/fingerprint'
 
@@ -32,12 +32,7 @@ function csv(rows: [string, string, number][]) {
 }
 const allRows = () => [T, ...donors].flatMap(code => months.map((m, i) => [code, m, value(code, i)] as [string, string, number]))
 
-async function release(text: string, label: string) {
-  const res = await uploadRelease(analyst, sourceId, text, `${label}.csv`, mapping, label)
-  expect(res.status, JSON.stringify(res.body)).toBe(202)
-  expect((await waitForJob(analyst, res.body.jobId)).state).toBe('done')
-  return res.body.releaseId as number
-}
+const release = (text: string, label: string) => importedRelease(analyst, sourceId, text, label, mapping)
 
 async function run() {
   const res = await analyst.post(`/api/studies/${studyId}/runs`, { design: 'did' })
@@ -47,9 +42,7 @@ async function run() {
 
 beforeAll(async () => {
   ;[admin, analyst] = await Promise.all([as('admin'), as('analyst')])
-  for (const code of [T, ...donors]) expect((await admin.post('/api/jurisdictions', { code, name: `Town ${code}`, kind: 'municipality', region: 'Test' })).status).toBe(201)
-  expect((await admin.post('/api/measures', { key, label: 'Claims', unit: 'claims', kind: 'outcome', frequency: 'month' })).status).toBe(201)
-  sourceId = (await admin.post('/api/sources', { name: `Claims office ${tag}`, publisher: 'Claims office' })).body.id
+  sourceId = await monthlyPanelRegistry(admin, [T, ...donors], key, 'Claims', `Claims office ${tag}`)
   await release(csv(allRows()), 'first')
   const s = await analyst.post('/api/studies', { title: `Claims ${tag}`, outcome: key, treated: [T], start: '2021-01' })
   expect(s.status, JSON.stringify(s.body)).toBe(201)

@@ -31,6 +31,26 @@ export async function waitForJob(client: Client, jobId: string, timeoutMs = 30_0
   }
 }
 
+/** Uploads a release and waits until its import is done; its id. */
+export async function importedRelease(client: Client, sourceId: number, file: Buffer | string, label: string, mapping: unknown): Promise<number> {
+  const res = await uploadRelease(client, sourceId, file, `${label}.csv`, mapping, label)
+  expect(res.status, JSON.stringify(res.body)).toBe(202)
+  expect((await waitForJob(client, res.body.jobId)).state).toBe('done')
+  return res.body.releaseId as number
+}
+
+/**
+ * A monthly outcome measure `key`, the jurisdictions `codes` (region "Test") and a source for
+ * them, created by `admin`; the source's id.
+ */
+export async function monthlyPanelRegistry(admin: Client, codes: string[], key: string, label: string, sourceName: string): Promise<number> {
+  for (const code of codes) expect((await admin.post('/api/jurisdictions', { code, name: `Town ${code}`, kind: 'municipality', region: 'Test' })).status).toBe(201)
+  expect((await admin.post('/api/measures', { key, label, unit: label.toLowerCase(), kind: 'outcome', frequency: 'month' })).status).toBe(201)
+  const source = await admin.post('/api/sources', { name: sourceName, publisher: sourceName })
+  expect(source.status, JSON.stringify(source.body)).toBe(201)
+  return source.body.id as number
+}
+
 /** Row counts and a content hash of every table an upload may touch. */
 export async function dataFingerprint() {
   const [row] = await sql(`SELECT

@@ -86,7 +86,7 @@ export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'na
   if (counts && (study.transform !== 'rate' || !study.denominator)) badRequest('A count model needs the outcome recorded as a count with a denominator: set the study\'s transform to "rate" with a denominator measure, or use the linear model.')
   const source = { ...studySource(study, units.sort()), ...(counts ? { counts: true } : {}) }
   // the candidate context holds the current rows of every unit (it is rebuilt whenever a release
-  // is imported): the run's units are a subset, the very rows a new read would give; a count
+  // of the study's measures is imported): the run's units are a subset, the very rows a new read would give; a count
   // model reads its own (the count and the exposure beside the rate)
   const read = (!counts && subsetStudyRows(ctx.data, units)) || await readStudyRows(source)
   const periods = [...new Set(read.rows.map(r => r.period))].sort()

@@ -114,7 +114,8 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
     const measureIds = checked.observations.measureKeys.map(k => registry.measures.get(k)!.id)
     // one import at a time per measure (in id order, so two imports never wait on each other
     // crosswise): panel_cells is brought up to date with set operations that assume it
-    for (const id of [...new Set(measureIds)].sort((a, b) => a - b)) await client.query('SELECT pg_advisory_xact_lock($1, $2)', [MEASURE_IMPORT_LOCK, id])
+    const distinctMeasures = [...new Set(measureIds)].sort((a, b) => a - b)
+    for (const id of distinctMeasures) await client.query('SELECT pg_advisory_xact_lock($1, $2)', [MEASURE_IMPORT_LOCK, id])
     await lockReferences(client, releaseId, measureIds, checked.observations)
     const total = checked.observations.length
     await copyObservations(client, releaseId, checked.observations, measureIds, done =>
@@ -123,7 +124,7 @@ export async function importRelease(pool: pg.Pool, releaseId: number, onProgress
     await client.query(
       `UPDATE source_releases SET status = 'done', row_count = $2, imported_at = now(), errors = $3, measure_ids = $4 WHERE id = $1`,
       [releaseId, total, checked.warnings.length ? JSON.stringify(checked.warnings.map(w => ({ row: null, column: null, problem: w, warning: true }))) : null,
-        [...new Set(measureIds)].sort((a, b) => a - b)])
+        distinctMeasures])
     const result: ImportResult = { releaseId, rowCount: total, measures: checked.summary.measures, createdMeasures, warnings: checked.warnings }
     await client.query(
       `INSERT INTO audit_log (user_id, action, entity, entity_id, after) VALUES ($1, 'import', 'source_release', $2, $3)`,
