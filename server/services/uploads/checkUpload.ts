@@ -6,9 +6,9 @@
  */
 import type { Mapping, UploadProblem } from '../../../shared/schemas/uploads'
 import { clip } from './limits'
-import { readTable, type Cell } from './readTable'
+import { openTable, type Cell, type TableStream } from './readTable'
 import { UploadError } from './uploadError'
-import { validateTable, type Registry, type Validation } from './validate'
+import { validateRows, type Registry, type Validation } from './validate'
 import { emptyObservations } from './validate/types'
 
 const SAMPLE_CHARS = 200
@@ -44,8 +44,19 @@ export type CheckResult =
 export async function checkUpload(req: CheckRequest): Promise<CheckResult> {
   try {
     const file = Buffer.isBuffer(req.file) ? req.file : Buffer.from(req.file.buffer, req.file.byteOffset, req.file.byteLength)
-    const table = await readTable(file, req.fileName, req.options)
-    const validation = req.mapping && req.registry ? validateTable(table, req.mapping, req.registry) : null
+    const opened = await openTable(file, req.fileName, req.options)
+    // one pass over the rows: the first few are kept for the preview as they go by
+    const sample: Cell[][] = []
+    let rowCount = 0
+    const table: TableStream = {
+      ...opened,
+      eachRow: visit => (sample.length = 0, rowCount = opened.eachRow((cells, row) => {
+        if (sample.length < req.sampleRows) sample.push(cells)
+        visit(cells, row)
+      })),
+    }
+    const validation = req.mapping && req.registry ? validateRows(table, req.mapping, req.registry) : null
+    if (!validation) table.eachRow(() => {})
     return {
       ok: true,
       table: {
@@ -55,8 +66,8 @@ export async function checkUpload(req: CheckRequest): Promise<CheckResult> {
         columns: table.columns,
         headerCells: table.headerCells,
         // A preview shows cells, not whole files: long texts are cut (limits.ts allows 1,000 characters a cell).
-        sample: table.rows.slice(0, req.sampleRows).map(r => r.map(c => (typeof c === 'string' && c.length > SAMPLE_CHARS ? clip(c, SAMPLE_CHARS) : c))),
-        rowCount: table.rows.length,
+        sample: sample.map(r => r.map(c => (typeof c === 'string' && c.length > SAMPLE_CHARS ? clip(c, SAMPLE_CHARS) : c))),
+        rowCount,
         notes: table.notes,
       },
       validation: validation && (req.keepObservations ? validation : { ...validation, observations: emptyObservations() }),

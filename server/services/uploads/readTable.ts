@@ -1,5 +1,8 @@
 /**
  * Reads an uploaded file into a header and rows of cells: CSV (papaparse) or XLSX (exceljs).
+ * openTable() hands the rows over one at a time (the check of a million-row CSV keeps no
+ * million arrays: retaining them cost more in garbage collection than the parse itself);
+ * readTable() collects them, for the tests and small files.
  * Pure (no database, no Nitro; relative imports so tsx runs it too), so the routes, the import job, the seed and the tests share it.
  *
  * Row numbers follow what a person sees in a spreadsheet: the header is row 1, the first
@@ -18,7 +21,8 @@ export { UploadError }
 
 export type Cell = string | number | Date | null
 
-export interface Table {
+/** What is known of a table before its rows are read. */
+export interface TableHead {
   format: 'csv' | 'xlsx'
   /** The delimiter used (CSV only). */
   delimiter: string | null
@@ -26,11 +30,27 @@ export interface Table {
   columns: string[]
   /** The header as read (XLSX headers may be dates or numbers). */
   headerCells: Cell[]
+  /** Things the reader did that a person should know (an encoding guessed); shown as warnings. */
+  notes: string[]
+}
+
+/** Visits one data row: its cells and its spreadsheet row number. */
+export type RowVisitor = (cells: Cell[], row: number) => void
+
+/** A table whose rows are read on demand, in order, without being kept. */
+export interface TableStream extends TableHead {
+  /**
+   * Calls `visit` for every data row in file order (blank lines skipped) and returns how many
+   * there were. A CSV that is not valid throws UploadError after the pass, whatever the
+   * visitor did. Each call reads the rows again.
+   */
+  eachRow(visit: RowVisitor): number
+}
+
+export interface Table extends TableHead {
   rows: Cell[][]
   /** rowNumbers[i] is the spreadsheet row number of rows[i]. */
   rowNumbers: number[]
-  /** Things the reader did that a person should know (an encoding guessed); shown as warnings. */
-  notes: string[]
 }
 
 /** Whether the file is read as a workbook (by its content: a zip archive). */
@@ -38,40 +58,119 @@ export function isXlsx(file: Buffer, fileName = ''): boolean {
   return sniff(file, fileName) === 'xlsx'
 }
 
-export async function readTable(file: Buffer, fileName: string, options: { delimiter?: string, sheet?: string } = {}): Promise<Table> {
-  return sniff(file, fileName) === 'xlsx' ? readXlsx(file, options.sheet) : readCsv(file, options.delimiter)
+export async function openTable(file: Buffer, fileName: string, options: { delimiter?: string, sheet?: string } = {}): Promise<TableStream> {
+  return sniff(file, fileName) === 'xlsx' ? streamOf(await readXlsx(file, options.sheet)) : openCsv(file, options.delimiter)
 }
 
-function readCsv(file: Buffer, delimiter = 'auto'): Table {
+export async function readTable(file: Buffer, fileName: string, options: { delimiter?: string, sheet?: string } = {}): Promise<Table> {
+  const { eachRow, ...head } = await openTable(file, fileName, options)
+  const rows: Cell[][] = []
+  const rowNumbers: number[] = []
+  eachRow((cells, row) => {
+    rows.push(cells)
+    rowNumbers.push(row)
+  })
+  return { ...head, rows, rowNumbers }
+}
+
+/** A table already in memory, read as a stream. */
+export function streamOf(table: Table): TableStream {
+  const { rows, rowNumbers, ...head } = table
+  return {
+    ...head,
+    eachRow(visit) {
+      for (let i = 0; i < rows.length; i++) visit(rows[i]!, rowNumbers[i]!)
+      return rows.length
+    },
+  }
+}
+
+const noData = () => new UploadError('The file holds no data.', [{ row: null, column: null, problem: 'The file holds no data.' }])
+
+/**
+ * papaparse looks at the first MiB of a text for its line breaks and at its first ten rows for
+ * the delimiter; the header is read from that much (with room for blank lines before it), so
+ * a long file is not split in full just to find its first row.
+ */
+const HEAD_CHARS = 1024 * 1024
+
+interface CsvHead { header: string[] | null, headerAt: number, delimiter: string, newline: string }
+
+function csvHead(text: string, delimiter: string): CsvHead {
+  const config = { delimiter: delimiter === 'auto' ? '' : delimiter, delimitersToGuess: [',', ';', '\t', '|'], skipEmptyLines: false as const }
+  const read = (part: string): CsvHead & { records: number } => {
+    const { data, meta } = Papa.parse<string[]>(part, config)
+    const headerAt = data.findIndex(r => !isBlankRow(r))
+    return { header: headerAt < 0 ? null : data[headerAt]!, headerAt, delimiter: meta.delimiter, newline: meta.linebreak, records: data.length }
+  }
+  if (text.length > HEAD_CHARS) {
+    // the ten rows after the header, and one more that may be cut off, lie within the part read
+    const head = read(text.slice(0, HEAD_CHARS))
+    if (head.header && head.records >= head.headerAt + 12) return head
+  }
+  return read(text)
+}
+
+function openCsv(file: Buffer, delimiter = 'auto'): TableStream {
   const { text, notes } = decodeText(file)
   scanCsv(text, delimiter)
   if (text.trim() === '') throw new UploadError('The file holds no data: only blank lines or spaces.', [{ row: null, column: null, problem: 'The file holds no data.' }])
-  const parsed = Papa.parse<string[]>(text, {
-    delimiter: delimiter === 'auto' ? '' : delimiter,
-    delimitersToGuess: [',', ';', '\t', '|'],
-    skipEmptyLines: false,
-  })
+  const head = csvHead(text, delimiter)
+  if (head.header === null) {
+    // Nothing but blank rows: a pass over them names any CSV problem first.
+    csvRows(text, head, () => {})
+    throw noData()
+  }
+  const columns = head.header.map(c => c.trim())
+  return {
+    format: 'csv',
+    delimiter: head.delimiter,
+    sheet: null,
+    columns,
+    headerCells: columns,
+    notes,
+    eachRow: visit => csvRows(text, head, visit),
+  }
+}
+
+/** One pass over the CSV text, visiting the rows after the header; throws the CSV's problems after it. */
+function csvRows(text: string, head: CsvHead, visit: RowVisitor): number {
+  const { headerAt, delimiter, newline } = head
+  let record = -1
+  let count = 0
+  const take = (cells: string[]) => {
+    record++
+    if (record <= headerAt || isBlankRow(cells)) return
+    count++
+    visit(cells, record + 1)
+  }
+  if (text.indexOf('"') < 0) {
+    // No quotes: what papaparse does then (its "fast mode": split at line breaks, then at
+    // the delimiter), a line at a time instead of an array of every line.
+    for (let at = 0; at <= text.length;) {
+      let end = text.indexOf(newline, at)
+      if (end < 0) end = text.length
+      take(text.slice(at, end).split(delimiter))
+      at = end + newline.length
+    }
+    return count
+  }
   const problems: UploadProblem[] = []
-  for (const err of parsed.errors) {
-    // Field-count problems are reported per row by the validator, with the column count.
-    if (err.code === 'TooFewFields' || err.code === 'TooManyFields' || err.code === 'UndetectableDelimiter') continue
-    if (problems.length < MAX_PROBLEMS) problems.push({ row: err.row == null ? null : err.row + 1, column: null, problem: err.message })
-  }
+  Papa.parse<string[]>(text, {
+    delimiter,
+    newline: newline as '\n',
+    skipEmptyLines: false,
+    step: (result) => {
+      for (const err of result.errors) {
+        // Field-count problems are reported per row by the validator, with the column count.
+        if (err.code === 'TooFewFields' || err.code === 'TooManyFields' || err.code === 'UndetectableDelimiter') continue
+        if (problems.length < MAX_PROBLEMS) problems.push({ row: record + 2, column: null, problem: err.message })
+      }
+      take(result.data)
+    },
+  })
   if (problems.length) throw new UploadError(`The file is not valid CSV: ${problems[0]!.problem} (row ${problems[0]!.row ?? '?'}).`, problems)
-  const data = parsed.data
-  let headerAt = 0
-  while (headerAt < data.length && isBlankRow(data[headerAt]!)) headerAt++
-  if (headerAt >= data.length) throw new UploadError('The file holds no data.', [{ row: null, column: null, problem: 'The file holds no data.' }])
-  const columns = data[headerAt]!.map(c => c.trim())
-  const rows: Cell[][] = []
-  const rowNumbers: number[] = []
-  for (let i = headerAt + 1; i < data.length; i++) {
-    const r = data[i]!
-    if (isBlankRow(r)) continue
-    rows.push(r)
-    rowNumbers.push(i + 1)
-  }
-  return { format: 'csv', delimiter: parsed.meta.delimiter, sheet: null, columns, headerCells: columns, rows, rowNumbers, notes }
+  return count
 }
 
 function isBlankRow(r: readonly Cell[]): boolean {

@@ -14,7 +14,7 @@
  * kept, with the total count; values quoted in them are clipped (limits.ts).
  */
 import type { Mapping } from '../../../shared/schemas/uploads'
-import type { Table } from './readTable'
+import { streamOf, type Table, type TableStream } from './readTable'
 import { checkColumns } from './validate/columns'
 import { knownMeasure, longValueColumns, measureSlots, widePeriodColumns, type PeriodColumn, type ValueColumn } from './validate/layouts'
 import { periodReader } from './validate/periods'
@@ -29,10 +29,20 @@ export { problemMessage } from './validate/problems'
 export type { MeasureInfo, NewMeasure, Observations, Registry, Validation } from './validate/types'
 
 export function validateTable(table: Table, mapping: Mapping, registry: Registry): Validation {
+  return validateRows(streamOf(table), mapping, registry)
+}
+
+/**
+ * validateTable() over a table read row by row (openTable): the rows are checked as they are
+ * read and not kept. Throws UploadError when the CSV itself is not valid, as openTable does.
+ */
+export function validateRows(table: TableStream, mapping: Mapping, registry: Registry): Validation {
   const problems = collectProblems()
   const { report } = problems
   const warnings: string[] = [...(table.notes ?? [])]
-  const fail = (): Validation => finish(problems.list, problems.count, warnings, emptyObservations(), [], table.rows.length, 0)
+  // a mapping that does not fit still reads the rows: to count them, and so that a CSV that
+  // is not valid is refused as such first
+  const fail = (): Validation => finish(problems.list, problems.count, warnings, emptyObservations(), [], table.eachRow(() => {}), 0)
 
   const index = checkColumns(table, mapping, report)
   if (!index) return fail()
@@ -60,5 +70,5 @@ export function validateTable(table: Table, mapping: Mapping, registry: Registry
   if (problems.count === 0 && mapping.rates.length) {
     ({ observations, newMeasures } = addRates(observations, mapping.rates, registry, report, warnings))
   }
-  return finish(problems.list, problems.count, warnings, observations, newMeasures, table.rows.length, rows.blanks, rows.jurisdictions)
+  return finish(problems.list, problems.count, warnings, observations, newMeasures, rows.rows, rows.blanks, rows.jurisdictions)
 }

@@ -1,9 +1,14 @@
-/** The upload reader and validator on small hand-made files: every problem with its row and column. */
+/**
+ * The upload reader and validator on small hand-made files: every problem with its row and column.
+ * Each file is checked twice, by the rows read into memory (readTable + validateTable) and by
+ * the one pass the upload check makes (checkUpload: rows visited, not kept); both must agree.
+ */
 import ExcelJS from 'exceljs'
 import { describe, expect, it } from 'vitest'
 import { mappingSchema, type MappingInput } from '#shared/schemas/uploads'
 import { readTable, UploadError } from '~~/server/services/uploads/readTable'
 import { validateTable, type Registry } from '~~/server/services/uploads/validate'
+import { checkUpload } from '~~/server/services/uploads/checkUpload'
 
 const registry: Registry = {
   jurisdictions: new Map([['AA-01', 1], ['AA-02', 2], ['BB-01', 3]]),
@@ -17,8 +22,20 @@ const registry: Registry = {
 const csv = (text: string) => Buffer.from(text)
 async function check(text: string | Buffer, mapping: MappingInput, fileName = 'file.csv') {
   const m = mappingSchema.parse(mapping)
-  const table = await readTable(typeof text === 'string' ? csv(text) : text, fileName, m)
-  return validateTable(table, m, registry)
+  const file = typeof text === 'string' ? csv(text) : text
+  const streamed = await checkUpload({ file, fileName, options: m, mapping: m, registry, sampleRows: 2, keepObservations: true })
+  let table
+  try {
+    table = await readTable(file, fileName, m)
+  }
+  catch (e) {
+    expect(streamed).toMatchObject({ ok: false, message: (e as UploadError).message, problems: (e as UploadError).problems })
+    throw e
+  }
+  const validation = validateTable(table, m, registry)
+  expect(streamed.ok && streamed.validation).toEqual(validation)
+  expect(streamed.ok && [streamed.table.rowCount, streamed.table.sample]).toEqual([table.rows.length, table.rows.slice(0, 2)])
+  return validation
 }
 const long = { layout: 'long', jurisdiction: 'code', period: 'period', values: { filings: 'filings' } } as const
 
@@ -64,6 +81,21 @@ describe('long layout with value columns', () => {
   it('names a cut-off last line', async () => {
     const v = await check('code,period,filings\nAA-01,2020-01,5\nAA-01,2020-02', long)
     expect(v.problems).toEqual([{ row: 3, column: null, problem: 'Row 3 has 2 fields, but the header has 3 (the last line looks cut off or is a note).' }])
+  })
+
+  it('names a short row in the middle without calling it the last, in row order with the rows after it', async () => {
+    const v = await check('code,period,filings\nAA-01,2020-01,5\nAA-01,2020-02\nZZ-99,2020-03,1\nAA-01,2020-04,5\n', long)
+    expect(v.problems).toEqual([
+      { row: 3, column: null, problem: 'Row 3 has 2 fields, but the header has 3.' },
+      { row: 4, column: 'code', problem: 'Unknown jurisdiction code "ZZ-99": add it under Jurisdictions first.' },
+    ])
+  })
+
+  it('refuses a CSV with a malformed quote, naming its row (blank lines keep their numbers)', async () => {
+    const file = 'code,period,filings\n\nAA-01,2020-01,5\nAA-01,"2020-02"x,6\nAA-02,2020-01,1\n'
+    const e = await check(file, long).catch((err: unknown) => err)
+    expect(e).toBeInstanceOf(UploadError)
+    expect((e as UploadError).message).toBe('The file is not valid CSV: Trailing quote on quoted field is malformed (row 4).')
   })
 
   it('detects the wrong delimiter', async () => {

@@ -1,7 +1,7 @@
 /** The columns a mapping needs: present once each, and not a whole line read as one column. Pure. */
 import type { Mapping } from '../../../../shared/schemas/uploads'
 import { clip } from '../limits'
-import { delimiterName, likelyDelimiter, type Table } from '../readTable'
+import { delimiterName, likelyDelimiter, type TableHead } from '../readTable'
 import type { Report } from './types'
 
 const LISTED_COLUMNS = 20
@@ -12,7 +12,7 @@ function listColumns(columns: string[]): string {
 }
 
 /** Column name -> position, or null after reporting why the mapping does not fit the header. */
-export function checkColumns(table: Table, mapping: Mapping, report: Report): Map<string, number> | null {
+export function checkColumns(table: TableHead, mapping: Mapping, report: Report): Map<string, number> | null {
   const { columns } = table
   const needed = mapping.layout === 'wide'
     ? [mapping.jurisdiction]

@@ -5,7 +5,7 @@
  */
 import type { Mapping } from '../../../../shared/schemas/uploads'
 import { clip } from '../limits'
-import type { Table } from '../readTable'
+import type { TableHead } from '../readTable'
 import type { MeasureInfo, PeriodSlot, Registry, Report } from './types'
 import type { periodReader } from './periods'
 
@@ -40,7 +40,7 @@ export interface ValueColumn { col: number, name: string, slot: number, info: Me
 
 /** A wide file: every header cell but the jurisdiction and ignored columns must be a period. */
 export function widePeriodColumns(
-  table: Table, mapping: Extract<Mapping, { layout: 'wide' }>, jurisdictionCol: number, info: MeasureInfo,
+  table: TableHead, mapping: Extract<Mapping, { layout: 'wide' }>, jurisdictionCol: number, info: MeasureInfo,
   readPeriod: ReturnType<typeof periodReader>, report: Report,
 ): PeriodColumn[] {
   const ignore = new Set(mapping.ignore)

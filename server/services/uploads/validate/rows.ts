@@ -5,7 +5,7 @@
  */
 import type { Mapping } from '../../../../shared/schemas/uploads'
 import { clip } from '../limits'
-import type { Cell, Table } from '../readTable'
+import type { Cell, TableStream } from '../readTable'
 import { CellRegister, cellText, readValue } from './cells'
 import type { MeasureSlots, PeriodColumn, ValueColumn } from './layouts'
 import type { periodReader } from './periods'
@@ -20,17 +20,43 @@ export interface RowPlan {
   readPeriod: ReturnType<typeof periodReader>
 }
 
-export interface RowResult { observations: Observations, blanks: number, jurisdictions: number, unknownCodes: Map<string, number> }
+export interface RowResult { observations: Observations, rows: number, blanks: number, jurisdictions: number, unknownCodes: Map<string, number> }
 
-export function readRows(table: Table, mapping: Mapping, registry: Registry, plan: RowPlan, report: Report): RowResult {
+/** Typed arrays that double when full. */
+class ObservationStore {
+  jurisdictionIds = new Int32Array(4096)
+  measureIndex = new Uint16Array(4096)
+  periods: string[] = []
+  values = new Float64Array(4096)
+  length = 0
+
+  push(jid: number, slot: number, period: string, value: number): void {
+    if (this.length === this.values.length) this.grow()
+    const n = this.length++
+    this.jurisdictionIds[n] = jid
+    this.measureIndex[n] = slot
+    this.periods.push(period)
+    this.values[n] = value
+  }
+
+  private grow(): void {
+    const size = this.values.length * 2
+    const j = new Int32Array(size)
+    j.set(this.jurisdictionIds)
+    const m = new Uint16Array(size)
+    m.set(this.measureIndex)
+    const v = new Float64Array(size)
+    v.set(this.values)
+    this.jurisdictionIds = j
+    this.measureIndex = m
+    this.values = v
+  }
+}
+
+export function readRows(table: TableStream, mapping: Mapping, registry: Registry, plan: RowPlan, report: Report): RowResult {
   const { index, periodColumns, valueColumns, wideInfo, slots, readPeriod } = plan
   const missing = new Set(mapping.missing.map(m => m.trim()))
-  const capacity = table.rows.length * Math.max(1, mapping.layout === 'wide' ? periodColumns.length : valueColumns.length || 1)
-  const jurisdictionIds = new Int32Array(capacity)
-  const measureIndex = new Uint16Array(capacity)
-  const periods: string[] = new Array(capacity)
-  const values = new Float64Array(capacity)
-  let n = 0
+  const store = new ObservationStore()
   let blanks = 0
   const register = new CellRegister()
   const jurisdictionsSeen = new Set<number>()
@@ -65,11 +91,7 @@ export function readRows(table: Table, mapping: Mapping, registry: Registry, pla
       report(row, column, `Duplicate: ${slots.keys[slot]} for this jurisdiction and period ${period.canonical} is also in row ${first}.`)
       return
     }
-    jurisdictionIds[n] = jid
-    measureIndex[n] = slot
-    periods[n] = period.canonical
-    values[n] = value
-    n++
+    store.push(jid, slot, period.canonical, value)
   }
 
   /** The period of a long row for a measure, or null after reporting it. */
@@ -81,12 +103,20 @@ export function readRows(table: Table, mapping: Mapping, registry: Registry, pla
   }
 
   const wideSlot = wideInfo ? slots.slotOf(wideInfo.key) : 0
-  for (let i = 0; i < table.rows.length; i++) {
-    const cells = table.rows[i]!
-    const row = table.rowNumbers[i]!
-    if (strictWidth && cells.length !== table.columns.length) {
-      report(row, null, `Row ${row} has ${cells.length} field${cells.length === 1 ? '' : 's'}, but the header has ${table.columns.length}${i === table.rows.length - 1 ? ' (the last line looks cut off or is a note)' : ''}.`)
-      continue
+  const width = table.columns.length
+  // A row of the wrong width is reported when the next row comes (or the file ends), as only
+  // then is it known whether it was the last line, which is then named as likely cut off.
+  let wrongWidth: { row: number, fields: number } | null = null
+  const reportWidth = (last: boolean) => {
+    const { row, fields } = wrongWidth!
+    wrongWidth = null
+    report(row, null, `Row ${row} has ${fields} field${fields === 1 ? '' : 's'}, but the header has ${width}${last ? ' (the last line looks cut off or is a note)' : ''}.`)
+  }
+  const rowCount = table.eachRow((cells, row) => {
+    if (wrongWidth) reportWidth(false)
+    if (strictWidth && cells.length !== width) {
+      wrongWidth = { row, fields: cells.length }
+      return
     }
     const code = cellText(cells[jCol] ?? null).trim()
     const jid = registry.jurisdictions.get(code)
@@ -101,7 +131,7 @@ export function readRows(table: Table, mapping: Mapping, registry: Registry, pla
 
     if (mapping.layout === 'wide') {
       for (const pc of periodColumns) take(row, pc.name, jid, wideSlot, pc, cells[pc.col] ?? null)
-      continue
+      return
     }
     if (mCol >= 0) {
       const key = cellText(cells[mCol] ?? null).trim()
@@ -109,7 +139,7 @@ export function readRows(table: Table, mapping: Mapping, registry: Registry, pla
       if (!info) report(row, mName, key === '' ? 'No measure given.' : `Unknown measure "${clip(key)}": add it under Measures first.`)
       const period = info ? periodOf(row, cells, info) : null
       take(row, vName, jid, info ? slots.slotOf(key) : 0, period, cells[vCol] ?? null)
-      continue
+      return
     }
     // The value columns of one frequency share the row's period; a bad period is listed once.
     const byFrequency = new Map<string, PeriodSlot | null>()
@@ -127,9 +157,12 @@ export function readRows(table: Table, mapping: Mapping, registry: Registry, pla
       }
       take(row, vc.name, jid, vc.slot, period, cells[vc.col] ?? null)
     }
-  }
+  })
+  if (wrongWidth) reportWidth(true)
+  const { length, jurisdictionIds, measureIndex, periods, values } = store
   return {
-    observations: { length: n, jurisdictionIds, measureIndex, measureKeys: slots.keys, periods, values },
+    observations: { length, jurisdictionIds, measureIndex, measureKeys: slots.keys, periods, values },
+    rows: rowCount,
     blanks,
     jurisdictions: jurisdictionsSeen.size,
     unknownCodes,
