@@ -238,6 +238,8 @@ export const studyRuns = pgTable('study_runs', {
   /** What the rows were read from (measures, units, period range, transform) and the pool as decided then; {} on runs stored before migration 0001. */
   data: jsonb('data').$type<RunData>().notNull().default(sql`'{}'::jsonb`),
   result: jsonb('result').$type<EstimateResult>().notNull(),
+  /** The placebo units' gap paths, kept out of the result (services/studies/gapPaths.ts); null when the run has none or predates migration 0014. */
+  gapPaths: bytea('gap_paths'),
   createdBy: integer('created_by').references(() => users.id),
   createdAt: createdAt(),
 }, t => [

@@ -38,6 +38,8 @@ test('an analyst estimates each intervention against the weighted comparison and
   await expect(terms).not.toContainText('level_2')
   await expect(card.getByTestId('placebo-chart').locator('canvas')).toBeVisible()
   await expect(card.getByTestId('gap-paths').locator('canvas')).toBeVisible()
+  // the placebo units' paths are read apart from the run, when the chart is shown
+  await expect(card.getByTestId('gap-paths')).toHaveAttribute('data-placebo-paths', /^[1-9]\d*$/)
   await expect(card.getByTestId('its-fit').locator('canvas')).toBeVisible()
   await expect(card.getByTestId('residual-acf')).toContainText('Newey-West')
   await expect(card.getByTestId('synthetic-weights')).toContainText(/VM-[A-Z]{2}-\d{2} 0\.\d/)

@@ -128,8 +128,13 @@ export interface InferenceResult {
    * values of that term.
    */
   terms?: Record<string, { estimate: number; p: number; ciLow: number | null; ciHigh: number | null }> | null
-  /** Gap paths (permutation with one treated unit): the treated unit's and each placebo's. */
-  gaps: { periods: string[]; treated: (number | null)[]; placebos: { unit: string; gap: (number | null)[] }[] } | null
+  /**
+   * Gap paths (permutation with one treated unit): the treated unit's and each placebo's. A run
+   * the app stores keeps the placebos' paths apart (they are most of a result's size and only a
+   * chart draws them): `placebos` is then empty and `placeboUnits` names them, in order; GET
+   * /api/studies/:id/runs/:runId/gaps gives them back.
+   */
+  gaps: { periods: string[]; treated: (number | null)[]; placebos: { unit: string; gap: (number | null)[] }[]; placeboUnits?: string[] } | null
 }
 
 export interface SyntheticResult {

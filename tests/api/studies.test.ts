@@ -211,7 +211,15 @@ describe('the demo study', () => {
     // the server adds one caution the engine cannot know (the study's later intervention); the numbers are the engine's
     const serverNote = (w: string) => w.startsWith('The treated period spans a later intervention')
     expect(run.result.warnings.some(serverNote)).toBe(true)
-    expect({ ...run.result, warnings: run.result.warnings.filter((w: string) => !serverNote(w)) }).toEqual(JSON.parse(JSON.stringify(engine)))
+    // the placebo gap paths are stored apart and read back whole by the chart's request (a reviewer may read them)
+    expect(run.result.inference.gaps.placebos).toEqual([])
+    expect(run.result.inference.gaps.placeboUnits).toHaveLength(nPlacebos)
+    const gaps = await reviewer.get(`/api/studies/${id}/runs/${run.id}/gaps`)
+    expect(gaps.status).toBe(200)
+    const whole = { ...run.result, inference: { ...run.result.inference, gaps: gaps.body } }
+    expect({ ...whole, warnings: whole.warnings.filter((w: string) => !serverNote(w)) }).toEqual(JSON.parse(JSON.stringify(engine)))
+    const [size] = await sql<{ result: number, paths: number }>('SELECT pg_column_size(result) AS result, octet_length(gap_paths) AS paths FROM study_runs WHERE id = $1', [run.id])
+    expect(size!.paths).toBe(nPlacebos * run.result.inference.gaps.periods.length * 8)
 
     const [stored] = await sql('SELECT design, fingerprint, release_ids, spec FROM study_runs WHERE id = $1', [run.id])
     expect(stored).toMatchObject({ design: 'did', fingerprint: run.fingerprint, spec: run.spec })
@@ -230,6 +238,20 @@ describe('the demo study', () => {
     const list = await reviewer.get(`/api/studies/${id}/runs`)
     expect(list.body.map((r: { id: number }) => r.id)).toEqual([modelBased.body.id, again.body.id, run.id])
     expect((await reviewer.get(`/api/studies/${id}/runs/${run.id}`)).body.result).toEqual(run.result)
+  })
+
+  it('gap paths: refused signed out, for a malformed or unknown run, a run of another study, and a run without them', async () => {
+    const did = (await analyst.post(`/api/studies/${id}/runs`, { design: 'did' })).body
+    const its = (await analyst.post(`/api/studies/${id}/runs`, { design: 'its' })).body
+    expect((await new Client().get(`/api/studies/${id}/runs/${did.id}/gaps`)).status).toBe(401)
+    expect((await analyst.get(`/api/studies/${id}/runs/x/gaps`)).status).toBe(400)
+    expect((await analyst.get(`/api/studies/${id}/runs/999999999/gaps`)).status).toBe(404)
+    const other = (await analyst.post('/api/studies', { title: `Other ${tag}`, question: 'Another question about filings?', outcome: OUTCOME, treated: [FIRST_ADOPTER], start: ADOPTED })).body
+    expect((await analyst.get(`/api/studies/${other.id}/runs/${did.id}/gaps`)).status).toBe(404)
+    const none = await analyst.get(`/api/studies/${id}/runs/${its.id}/gaps`)
+    expect(none.status).toBe(404)
+    expect(none.body.message).toMatch(/has no gap paths/)
+    expect((await analyst.get(`/api/studies/${id}/runs/${did.id}/gaps`)).body.placebos).toHaveLength(did.result.inference.gaps.placeboUnits.length)
   })
 
   it('every design runs; engine refusals come back as 400 with the engine\'s words', async () => {

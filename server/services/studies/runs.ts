@@ -8,6 +8,7 @@ import { and, desc, eq, lt, sql } from 'drizzle-orm'
 import { studyRuns, users, type Study, type StudyRun } from '~~/db/schema'
 import type { RunData } from '~~/db/jsonTypes'
 import { isEngineError, type EstimateResult, type Spec } from '~~/server/engine'
+import type { InferenceResult } from '#shared/engine/result'
 import { engineTask, packRows } from '~~/server/utils/enginePool'
 import type { RunCreate } from '#shared/schemas/studies'
 import type { SessionUser } from '~~/server/utils/auth'
@@ -15,6 +16,7 @@ import { runCreateSchema } from '#shared/schemas/studies'
 import type { z } from 'zod'
 import { compareRuns } from './compareRuns'
 import { canonicalJson } from './fingerprint'
+import { joinGapPaths, splitGapPaths } from './gapPaths'
 import { asStoredJson } from './storedJson'
 import { assemblePool, candidateContext, includedPool, poolDecisions, studySource } from './candidates'
 import { readStudyRows, subsetStudyRows } from './rows'
@@ -35,7 +37,7 @@ const runColumns = {
   createdBy: studyRuns.createdBy,
   createdByName: users.name,
 }
-type RunRow = StudyRun & { createdByName: string | null }
+type RunRow = Omit<StudyRun, 'gapPaths'> & { createdByName: string | null }
 
 /** What compareRuns reads of the previous run: its spec, fingerprint, releases and effect (not the whole result). */
 type PreviousRun = Pick<StudyRun, 'id' | 'spec' | 'fingerprint' | 'releaseIds'> & { result: { effect: unknown } }
@@ -116,6 +118,9 @@ export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'na
     result.warnings.push(`The treated period spans a later intervention (${later.map(l => `${l.label}, ${l.period}`).join('; ')}): this estimate averages over it. Choose "each intervention separately" to estimate each phase.`)
   }
   const data: RunData = { source, frequency: read.frequency, releases: read.releases, pool: assemblePool(ctx, decisions).rows }
+  // the placebo gap paths go in a column of their own, as bytes, read only by the chart
+  let gapPaths: Buffer | null
+  ;({ result, paths: gapPaths } = splitGapPaths(result))
   const db = useDb()
   let previous: Promise<PreviousRun | undefined> | undefined
   const stored = await db.transaction(async (tx) => {
@@ -125,7 +130,7 @@ export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'na
     previous = previousRun(study.id, design)
     previous.catch(() => {}) // awaited below; a failed transaction must not leave it unhandled
     const [row] = await tx.insert(studyRuns).values({
-      studyId: study.id, design, spec, fingerprint, releaseIds: read.releaseIds, data, result, createdBy: userId,
+      studyId: study.id, design, spec, fingerprint, releaseIds: read.releaseIds, data, result, gapPaths, createdBy: userId,
     }).returning({ id: studyRuns.id, createdAt: studyRuns.createdAt })
     await audit(tx, { userId, action: 'run', entity: 'study', entityId: study.id, after: { runId: row!.id, design, fingerprint, releaseIds: read.releaseIds, effect: result.effect } })
     return row!
@@ -141,6 +146,15 @@ export async function listRuns(studyId: number) {
     .where(eq(studyRuns.studyId, studyId)).orderBy(desc(studyRuns.id))
   // newest first; each run compared with the one before it of the same design
   return rows.map((r, i) => present(r, rows.slice(i + 1).find(p => p.design === r.design)))
+}
+
+/** The gap paths of run `runId` of the study, the placebos' included; 404 when the run has none. */
+export async function getRunGapPaths(studyId: number, runId: number) {
+  const [run] = await useDb().select({ gaps: sql<InferenceResult['gaps']>`${studyRuns.result} -> 'inference' -> 'gaps'`, paths: studyRuns.gapPaths })
+    .from(studyRuns).where(and(eq(studyRuns.id, runId), eq(studyRuns.studyId, studyId)))
+  if (!run) throw createError({ statusCode: 404, message: `Study ${studyId} has no run ${runId}.` })
+  if (!run.gaps) throw createError({ statusCode: 404, message: `Run ${runId} has no gap paths: they come with placebo-unit inference for one treated unit.` })
+  return joinGapPaths(run.gaps, run.paths)
 }
 
 export async function getRun(studyId: number, runId: number) {
