@@ -5,8 +5,7 @@
  * returned with a preview of the did estimate on the new pool.
  */
 import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
-import { eq, sql } from 'drizzle-orm'
-import { jurisdictions, studies, studyPoolDecisions, type Study } from '~~/db/schema'
+import type { Study } from '~~/db/schema'
 import type { z } from 'zod'
 import type { poolPutSchema } from '#shared/schemas/studies'
 import type { SessionUser } from '../../utils/auth'
@@ -30,30 +29,30 @@ export async function savePool(study: Study, user: SessionUser, body: z.output<t
     }
   })
   if (issues.length) badRequest(issues[0]!.message, issues)
-  const db = useDb()
   // every decision names a candidate (checked above), and the context knows each candidate's id
   const ids = new Map(body.decisions.map(d => [d.jurisdiction, ctx.info.get(d.jurisdiction)!.id]))
-  const decided = await db.transaction(async (tx) => {
-    await lockStudyForChange(tx, study.id)
-    const before = await tx.select({ code: jurisdictions.code, jurisdictionId: studyPoolDecisions.jurisdictionId, included: studyPoolDecisions.included, reason: studyPoolDecisions.reason })
-      .from(studyPoolDecisions).innerJoin(jurisdictions, eq(jurisdictions.id, studyPoolDecisions.jurisdictionId))
-      .where(eq(studyPoolDecisions.studyId, study.id))
-    const values = body.decisions.map(d => ({ studyId: study.id, jurisdictionId: ids.get(d.jurisdiction)!, included: d.included, reason: d.reason, decidedBy: user.id, decidedAt: new Date() }))
-    await tx.insert(studyPoolDecisions).values(values).onConflictDoUpdate({
-      target: [studyPoolDecisions.studyId, studyPoolDecisions.jurisdictionId],
-      set: { included: sql`excluded.included`, reason: sql`excluded.reason`, decidedBy: sql`excluded.decided_by`, decidedAt: sql`excluded.decided_at` },
+  type Before = { code: string, jurisdiction_id: number, included: boolean, reason: string | null }
+  const decided = await changeStudy<Before, { jurisdiction: string, included: boolean, reason: string | null }[]>(study.id,
+    `SELECT j.code, d.jurisdiction_id, d.included, d.reason FROM study_pool_decisions d JOIN jurisdictions j ON j.id = d.jurisdiction_id
+     WHERE d.study_id = ${STUDY_ID}`,
+    async (client, before) => {
+      // the decisions, the study's time of change and the audit entry in one statement
+      await client.query(
+        `WITH d AS (SELECT * FROM json_to_recordset($2::json) AS x(jurisdiction_id integer, included boolean, reason text)),
+         up AS (
+           INSERT INTO study_pool_decisions (study_id, jurisdiction_id, included, reason, decided_by, decided_at)
+           SELECT $1, jurisdiction_id, included, reason, $3, now() FROM d
+           ON CONFLICT (study_id, jurisdiction_id) DO UPDATE
+             SET included = excluded.included, reason = excluded.reason, decided_by = excluded.decided_by, decided_at = excluded.decided_at),
+         touched AS (UPDATE studies SET updated_at = now() WHERE id = $1)
+         INSERT INTO audit_log (user_id, action, entity, entity_id, before, after) VALUES ($3, 'pool', 'study', $1::text, $4::jsonb, $5::jsonb)`,
+        [study.id, JSON.stringify(body.decisions.map(d => ({ jurisdiction_id: ids.get(d.jurisdiction)!, included: d.included, reason: d.reason ?? null }))), user.id,
+          JSON.stringify(before.map(b => ({ jurisdictionId: b.jurisdiction_id, included: b.included, reason: b.reason }))), JSON.stringify(body.decisions)])
+      // the decisions as they now stand (the study is locked: nobody else changed them)
+      const now = new Map(before.map(b => [b.code, { jurisdiction: b.code, included: b.included, reason: b.reason }]))
+      for (const d of body.decisions) now.set(d.jurisdiction, { jurisdiction: d.jurisdiction, included: d.included, reason: d.reason ?? null })
+      return [...now.values()]
     })
-    await tx.update(studies).set({ updatedAt: new Date() }).where(eq(studies.id, study.id))
-    await audit(tx, {
-      userId: user.id, action: 'pool', entity: 'study', entityId: study.id,
-      before: before.map(b => ({ jurisdictionId: b.jurisdictionId, included: b.included, reason: b.reason })),
-      after: body.decisions,
-    })
-    // the decisions as they now stand (the study is locked: nobody else changed them)
-    const now = new Map(before.map(b => [b.code, { jurisdiction: b.code, included: b.included, reason: b.reason }]))
-    for (const d of body.decisions) now.set(d.jurisdiction, { jurisdiction: d.jurisdiction, included: d.included, reason: d.reason ?? null })
-    return [...now.values()]
-  })
   const pool = assemblePool(ctx, decided, k)
   return { ...pool, preview: await previewEstimate(ctx, pool.rows.filter(r => r.included).map(r => r.jurisdiction)) }
 }

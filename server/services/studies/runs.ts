@@ -121,18 +121,23 @@ export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'na
   // the placebo gap paths go in a column of their own, as bytes, read only by the chart
   let gapPaths: Buffer | null
   ;({ result, paths: gapPaths } = splitGapPaths(result))
-  const db = useDb()
   let previous: Promise<PreviousRun | undefined> | undefined
-  const stored = await db.transaction(async (tx) => {
-    await lockStudyForChange(tx, study.id)
+  const stored = await changeStudy(study.id, null, async (client) => {
     // with the study locked no other run of it can land before this one commits: the previous run
     // of the design is the newest one committed now, read on another connection meanwhile
     previous = previousRun(study.id, design)
     previous.catch(() => {}) // awaited below; a failed transaction must not leave it unhandled
-    const [row] = await tx.insert(studyRuns).values({
-      studyId: study.id, design, spec, fingerprint, releaseIds: read.releaseIds, data, result, gapPaths, createdBy: userId,
-    }).returning({ id: studyRuns.id, createdAt: studyRuns.createdAt })
-    await audit(tx, { userId, action: 'run', entity: 'study', entityId: study.id, after: { runId: row!.id, design, fingerprint, releaseIds: read.releaseIds, effect: result.effect } })
+    // the run and its audit entry in one statement
+    const { rows: [row] } = await client.query<{ id: number, createdAt: Date }>(
+      `WITH run AS (
+         INSERT INTO study_runs (study_id, design, spec, fingerprint, release_ids, data, result, gap_paths, created_by)
+         VALUES ($1, $2, $3::jsonb, $4, $5::jsonb, $6::jsonb, $7::jsonb, $8, $9) RETURNING id, created_at),
+       logged AS (
+         INSERT INTO audit_log (user_id, action, entity, entity_id, after)
+         SELECT $9, 'run', 'study', $1::text, jsonb_build_object('runId', run.id) || $10::jsonb FROM run)
+       SELECT id, created_at AS "createdAt" FROM run`,
+      [study.id, design, JSON.stringify(spec), fingerprint, JSON.stringify(read.releaseIds), JSON.stringify(data), JSON.stringify(result), gapPaths, userId,
+        JSON.stringify({ design, fingerprint, releaseIds: read.releaseIds, effect: result.effect })])
     return row!
   })
   // answered from what was just stored (reading the run back would parse its JSON twice more)
