@@ -30,14 +30,18 @@ export async function readPanel(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): P
 export async function readPanelCells(pool: pg.Pool, q: Omit<PanelQuery, 'format'>): Promise<{ panel: PanelResponse, releasesByUnit: Map<string, number[]> | null }> {
   // the measure and the jurisdictions (the asked ones, or all) in one query, codes in code order
   // (and the imported releases with values of the measure, which the default read names)
-  const { rows: [measure] } = await pool.query<{ id: number, key: string, label: string, unit: string, frequency: string, units: [number, string][], releases: ReleaseRow[] }>(
-    `SELECT m.id, m.key, m.label, m.unit, m.frequency,
+  // (named: each connection parses and plans it once)
+  const { rows: [measure] } = await pool.query<{ id: number, key: string, label: string, unit: string, frequency: string, units: [number, string][], releases: ReleaseRow[] }>({
+    name: 'panel_measure',
+    text: `SELECT m.id, m.key, m.label, m.unit, m.frequency,
        (SELECT coalesce(json_agg(json_build_array(j.id, j.code) ORDER BY j.code), '[]') FROM jurisdictions j
          WHERE $2::text[] IS NULL OR j.code = ANY($2::text[])) AS units,
        (SELECT coalesce(json_agg(json_build_object('id', r.id, 'source', s.name, 'label', r.label, 'imported_at', r.imported_at)), '[]')
           FROM source_releases r JOIN sources s ON s.id = r.source_id
          WHERE r.status = 'done' AND (r.measure_ids IS NULL OR m.id = ANY(r.measure_ids))) AS releases
-     FROM measures m WHERE m.key = $1`, [q.measure, q.units.length ? q.units : null])
+     FROM measures m WHERE m.key = $1`,
+    values: [q.measure, q.units.length ? q.units : null],
+  })
   if (!measure) throw createError({ statusCode: 404, message: `No measure with key "${q.measure}".` })
   for (const [name, value] of [['from', q.from], ['to', q.to]] as const) {
     if (value && parsePeriod(value).frequency !== measure.frequency) {

@@ -6,7 +6,7 @@
  * role refusal every writer route gives.
  */
 import type { H3Event } from 'h3'
-import { eq } from 'drizzle-orm'
+import { eq, sql } from 'drizzle-orm'
 import { studies, users, type Study } from '~~/db/schema'
 import { changeableNow, studyAccess, type StudyAction } from '../services/studies/access'
 import type { SessionUser } from './auth'
@@ -19,12 +19,20 @@ export function assertStudyAccess(study: Study, user: SessionUser, action: Study
   if (!decision.ok) throw createError({ statusCode: decision.statusCode, message: decision.message })
 }
 
+/**
+ * The account and the study in one query, prepared once (named, so each connection parses and
+ * plans it once too): it runs before almost every request about a study.
+ */
+const accountAndStudy = () => useDb()
+  .select({ user: { id: users.id, email: users.email, name: users.name, role: users.role, active: users.active }, study: studies })
+  .from(users).leftJoin(studies, eq(studies.id, sql.placeholder('id'))).where(eq(users.email, sql.placeholder('email')))
+  .prepare('account_and_study')
+let accountAndStudyQuery: ReturnType<typeof accountAndStudy> | undefined
+
 export async function requireStudy(event: H3Event, id: number, action: StudyAction): Promise<{ user: SessionUser, study: Study }> {
   const email = await sessionEmail(event)
-  // the account and the study in one query
-  const [row] = await useDb()
-    .select({ user: { id: users.id, email: users.email, name: users.name, role: users.role, active: users.active }, study: studies })
-    .from(users).leftJoin(studies, eq(studies.id, id)).where(eq(users.email, email))
+  accountAndStudyQuery ??= accountAndStudy()
+  const [row] = await accountAndStudyQuery.execute({ id, email })
   const user = activeUser(row?.user, action === 'write' || action === 'version' ? WRITERS : undefined)
   const study = row?.study
   if (!study) throw createError({ statusCode: 404, message: `No study with id ${id}.` })

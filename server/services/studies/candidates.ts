@@ -13,7 +13,7 @@
  * unflagged candidate (poolWeights.ts). Balance: pre-period means, treated against pool.
  */
 import { SUGGESTED_POOL_SIZE } from '#shared/schemas/studies'
-import { and, eq, inArray, lt, or } from 'drizzle-orm'
+import { and, eq, inArray, lt, or, sql } from 'drizzle-orm'
 import { jurisdictionNeighbours, jurisdictions, policyEvents, studyPoolDecisions, type Study } from '~~/db/schema'
 import { isEngineError, type DonorScores } from '~~/server/engine'
 import { engineTask, packRows } from '~~/server/utils/enginePool'
@@ -86,7 +86,8 @@ const CONTEXT_CACHE_SIZE = 100
 async function registryDigest(study: Study, lastJurisdiction: number | null): Promise<{ digest: string, lastJurisdiction: number }> {
   // imported releases of the study's measures only: an import of another measure changes none of its rows
   const keys = [study.outcome, ...study.covariates, ...(study.denominator ? [study.denominator] : [])]
-  const { rows: [row] } = await usePool().query<{ d: string, m: number }>(`WITH upto AS (SELECT coalesce($2::int, (SELECT max(id) FROM jurisdictions), 0) AS m)
+  // named: each connection parses and plans it once (it runs with every request about a study's pool)
+  const { rows: [row] } = await usePool().query<{ d: string, m: number }>({ name: 'registry_digest', text: `WITH upto AS (SELECT coalesce($2::int, (SELECT max(id) FROM jurisdictions), 0) AS m)
     SELECT concat_ws(':',
       (SELECT count(*) || '-' || coalesce(sum(id), 0) FROM source_releases WHERE status = 'done'
          AND (measure_ids IS NULL OR measure_ids && ARRAY(SELECT id FROM measures WHERE key = ANY($1::text[])))),
@@ -94,7 +95,7 @@ async function registryDigest(study: Study, lastJurisdiction: number | null): Pr
       (SELECT count(*) || '-' || coalesce(sum(hashtext(jurisdiction_id || '-' || neighbour_id)), 0) FROM jurisdiction_neighbours),
       (SELECT count(*) || '-' || coalesce(sum(hashtext(code || name || kind || coalesce(region, '') || coalesce(archived_at::text, ''))), 0)
          FROM jurisdictions WHERE id <= (SELECT m FROM upto))) AS d,
-      (SELECT m FROM upto) AS m`, [keys, lastJurisdiction])
+      (SELECT m FROM upto) AS m`, values: [keys, lastJurisdiction] })
   return { digest: row!.d, lastJurisdiction: row!.m }
 }
 
@@ -200,10 +201,16 @@ function sameFrequencyWithin(p: string, from: string, to: string): boolean {
   }
 }
 
+/** A study's pool decisions; prepared once (named), as it is read with nearly every pool or run request. */
+const decisionsOf = () => useDb().select({ jurisdiction: jurisdictions.code, included: studyPoolDecisions.included, reason: studyPoolDecisions.reason })
+  .from(studyPoolDecisions).innerJoin(jurisdictions, eq(jurisdictions.id, studyPoolDecisions.jurisdictionId))
+  .where(eq(studyPoolDecisions.studyId, sql.placeholder('studyId')))
+  .prepare('pool_decisions')
+let decisionsQuery: ReturnType<typeof decisionsOf> | undefined
+
 export async function poolDecisions(studyId: number) {
-  return useDb().select({ jurisdiction: jurisdictions.code, included: studyPoolDecisions.included, reason: studyPoolDecisions.reason })
-    .from(studyPoolDecisions).innerJoin(jurisdictions, eq(jurisdictions.id, studyPoolDecisions.jurisdictionId))
-    .where(eq(studyPoolDecisions.studyId, studyId))
+  decisionsQuery ??= decisionsOf()
+  return decisionsQuery.execute({ studyId })
 }
 
 const PERIOD_WORDS: Record<string, string> = { month: 'month', quarter: 'quarter', year: 'year', week: 'week', day: 'day' }

@@ -37,8 +37,9 @@ export async function savePool(study: Study, user: SessionUser, body: z.output<t
      WHERE d.study_id = ${STUDY_ID}`,
     async (client, before) => {
       // the decisions, the study's time of change and the audit entry in one statement
-      await client.query(
-        `WITH d AS (SELECT * FROM json_to_recordset($2::json) AS x(jurisdiction_id integer, included boolean, reason text)),
+      await client.query({
+        name: 'pool_save',
+        text: `WITH d AS (SELECT * FROM json_to_recordset($2::json) AS x(jurisdiction_id integer, included boolean, reason text)),
          up AS (
            INSERT INTO study_pool_decisions (study_id, jurisdiction_id, included, reason, decided_by, decided_at)
            SELECT $1, jurisdiction_id, included, reason, $3, now() FROM d
@@ -46,8 +47,9 @@ export async function savePool(study: Study, user: SessionUser, body: z.output<t
              SET included = excluded.included, reason = excluded.reason, decided_by = excluded.decided_by, decided_at = excluded.decided_at),
          touched AS (UPDATE studies SET updated_at = now() WHERE id = $1)
          INSERT INTO audit_log (user_id, action, entity, entity_id, before, after) VALUES ($3, 'pool', 'study', $1::text, $4::jsonb, $5::jsonb)`,
-        [study.id, JSON.stringify(body.decisions.map(d => ({ jurisdiction_id: ids.get(d.jurisdiction)!, included: d.included, reason: d.reason ?? null }))), user.id,
-          JSON.stringify(before.map(b => ({ jurisdictionId: b.jurisdiction_id, included: b.included, reason: b.reason }))), JSON.stringify(body.decisions)])
+        values: [study.id, JSON.stringify(body.decisions.map(d => ({ jurisdiction_id: ids.get(d.jurisdiction)!, included: d.included, reason: d.reason ?? null }))), user.id,
+          JSON.stringify(before.map(b => ({ jurisdictionId: b.jurisdiction_id, included: b.included, reason: b.reason }))), JSON.stringify(body.decisions)],
+      })
       // the decisions as they now stand (the study is locked: nobody else changed them)
       const now = new Map(before.map(b => [b.code, { jurisdiction: b.code, included: b.included, reason: b.reason }]))
       for (const d of body.decisions) now.set(d.jurisdiction, { jurisdiction: d.jurisdiction, included: d.included, reason: d.reason ?? null })

@@ -4,7 +4,7 @@
  * (study_runs.data) and the engine's result. A run is compared with the previous run of
  * the same design: what moved (estimate, SE) and whether the data changed.
  */
-import { and, desc, eq, lt, sql } from 'drizzle-orm'
+import { and, desc, eq, sql } from 'drizzle-orm'
 import { studyRuns, users, type Study, type StudyRun } from '~~/db/schema'
 import type { RunData } from '~~/db/jsonTypes'
 import { isEngineError, type EstimateResult, type Spec } from '~~/server/engine'
@@ -42,17 +42,17 @@ type RunRow = Omit<StudyRun, 'gapPaths'> & { createdByName: string | null }
 /** What compareRuns reads of the previous run: its spec, fingerprint, releases and effect (not the whole result). */
 type PreviousRun = Pick<StudyRun, 'id' | 'spec' | 'fingerprint' | 'releaseIds'> & { result: { effect: unknown } }
 
-/** The run of the same design just before `runId` (or the newest), as much as compareRuns needs. */
+/**
+ * The run of the same design just before `runId` (or the newest), as much as compareRuns needs;
+ * named, so each connection parses and plans it once (it is read with every run).
+ */
 async function previousRun(studyId: number, design: StudyRun['design'], runId?: number): Promise<PreviousRun | undefined> {
-  const [previous] = await useDb().select({
-    id: studyRuns.id,
-    spec: studyRuns.spec,
-    fingerprint: studyRuns.fingerprint,
-    releaseIds: studyRuns.releaseIds,
-    effect: sql<unknown>`${studyRuns.result} -> 'effect'`.mapWith(studyRuns.result),
-  }).from(studyRuns)
-    .where(and(eq(studyRuns.studyId, studyId), eq(studyRuns.design, design), runId === undefined ? undefined : lt(studyRuns.id, runId)))
-    .orderBy(desc(studyRuns.id)).limit(1)
+  const { rows: [previous] } = await usePool().query<Omit<PreviousRun, 'result'> & { effect: unknown }>({
+    name: 'previous_run',
+    text: `SELECT id, spec, fingerprint, release_ids AS "releaseIds", result -> 'effect' AS effect FROM study_runs
+           WHERE study_id = $1 AND design = $2 AND id < $3 ORDER BY id DESC LIMIT 1`,
+    values: [studyId, design, runId ?? 2 ** 31 - 1],
+  })
   return previous && { id: previous.id, spec: previous.spec, fingerprint: previous.fingerprint, releaseIds: previous.releaseIds, result: { effect: previous.effect } }
 }
 
@@ -128,21 +128,24 @@ export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'na
     previous = previousRun(study.id, design)
     previous.catch(() => {}) // awaited below; a failed transaction must not leave it unhandled
     // the run and its audit entry in one statement
-    const { rows: [row] } = await client.query<{ id: number, createdAt: Date }>(
-      `WITH run AS (
+    const { rows: [row] } = await client.query<{ id: number, createdAt: Date }>({
+      name: 'run_insert',
+      text: `WITH run AS (
          INSERT INTO study_runs (study_id, design, spec, fingerprint, release_ids, data, result, gap_paths, created_by)
          VALUES ($1, $2, $3::jsonb, $4, $5::jsonb, $6::jsonb, $7::jsonb, $8, $9) RETURNING id, created_at),
        logged AS (
          INSERT INTO audit_log (user_id, action, entity, entity_id, after)
          SELECT $9, 'run', 'study', $1::text, jsonb_build_object('runId', run.id) || $10::jsonb FROM run)
        SELECT id, created_at AS "createdAt" FROM run`,
-      [study.id, design, JSON.stringify(spec), fingerprint, JSON.stringify(read.releaseIds), JSON.stringify(data), JSON.stringify(result), gapPaths, userId,
-        JSON.stringify({ design, fingerprint, releaseIds: read.releaseIds, effect: result.effect })])
+      values: [study.id, design, JSON.stringify(spec), fingerprint, JSON.stringify(read.releaseIds), JSON.stringify(data), JSON.stringify(result), gapPaths, userId,
+        JSON.stringify({ design, fingerprint, releaseIds: read.releaseIds, effect: result.effect })],
+    })
     return row!
   })
   // answered from what was just stored (reading the run back would parse its JSON twice more)
   // in the form a read gives (jsonb orders object keys): the reply equals a later GET of the run
-  const run: RunRow = { id: stored.id, studyId: study.id, design, spec: asStoredJson(spec), fingerprint, releaseIds: read.releaseIds, data: asStoredJson(data), result: asStoredJson(result), createdAt: stored.createdAt, createdBy: userId, createdByName: user.name }
+  // (of the data, present() sends the releases and the units, so only they are put in that form)
+  const run: RunRow = { id: stored.id, studyId: study.id, design, spec: asStoredJson(spec), fingerprint, releaseIds: read.releaseIds, data: { ...data, releases: asStoredJson(data.releases) }, result: asStoredJson(result), createdAt: stored.createdAt, createdBy: userId, createdByName: user.name }
   return present(run, await previous)
 }
 

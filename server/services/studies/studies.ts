@@ -115,13 +115,13 @@ export async function createStudy(user: SessionUser, body: Create) {
 export async function getStudy(study: Study, user: SessionUser) {
   const codes = [...new Set([...study.treated, ...study.interventions.map(i => i.jurisdiction)])]
   const keys = [study.outcome, ...study.covariates, ...(study.denominator ? [study.denominator] : [])]
-  // the owner's name, the units' names and the measures in one query
+  // the owner's name, the units' names and the measures in one query (named: parsed and planned once a connection)
   type Measure = { key: string, label: string, unit: string, frequency: string }
-  const { rows: [found] } = await usePool().query<{ owner: string | null, names: Record<string, string>, measures: Record<string, Measure> }>(`SELECT
+  const { rows: [found] } = await usePool().query<{ owner: string | null, names: Record<string, string>, measures: Record<string, Measure> }>({ name: 'study_names', text: `SELECT
       (SELECT name FROM users WHERE id = $1) AS owner,
       (SELECT coalesce(json_object_agg(code, name), '{}') FROM jurisdictions WHERE code = ANY($2::text[])) AS names,
       (SELECT coalesce(json_object_agg(key, json_build_object('key', key, 'label', label, 'unit', unit, 'frequency', frequency)), '{}')
-         FROM measures WHERE key = ANY($3::text[])) AS measures`, [study.ownerId, codes, keys])
+         FROM measures WHERE key = ANY($3::text[])) AS measures`, values: [study.ownerId, codes, keys] })
   return {
     ...study,
     owner: found?.owner ?? null,
