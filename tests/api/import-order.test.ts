@@ -64,4 +64,16 @@ describe('import order and the current panel', () => {
       { code: codes[1], period: '2021-03', value: 3, release_id: a },
     ])
   })
+
+  it('values arrive as the very doubles the file gives (binary COPY), in observations and the current panel', async () => {
+    const texts = ['0.1', '-0.000123456789012345', '123456789.123456789', '1e-300', '-1.7976931348623157e308', '5e-324', '0.30000000000000004', '-0']
+    const file = Buffer.from(`code,month,value\n${texts.map((t, i) => `${codes[0]},2022-${String(i + 1).padStart(2, '0')},${t}`).join('\n')}\n`)
+    const id = await pendingRelease(file, 'exact')
+    await importRelease(testPool(), id)
+    const stored = await sql<{ period: string, value: number }>(
+      `SELECT o.period, o.value FROM observations o WHERE o.release_id = $1 ORDER BY o.period`, [id])
+    expect(stored.map(r => r.value)).toEqual(texts.map(Number))
+    const current = (await cells()).filter(c => c.period.startsWith('2022-'))
+    expect(current.map(c => c.value)).toEqual(texts.map(Number))
+  })
 })
