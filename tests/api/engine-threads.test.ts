@@ -68,6 +68,9 @@ describe('estimates in the engine threads', () => {
   it('runs sent at once wait their turn and all give the same answer', async () => {
     const answers = await Promise.all(Array.from({ length: 6 }, () => analyst.post(`/api/studies/${studyId}/runs`, { design: 'did' })))
     for (const a of answers) expect(a.status, JSON.stringify(a.body).slice(0, 300)).toBe(201)
+    // each is compared with the run stored just before it, never with itself or a later one
+    const byId = answers.map(a => a.body).sort((a, b) => a.id - b.id)
+    for (let i = 1; i < byId.length; i++) expect(byId[i].compare?.previousId).toBe(byId[i - 1].id)
     const { result } = await directly(answers[0]!.body)
     for (const a of answers) {
       expect(a.body.fingerprint).toBe(answers[0]!.body.fingerprint)

@@ -42,16 +42,13 @@ type RunRow = Omit<StudyRun, 'gapPaths'> & { createdByName: string | null }
 /** What compareRuns reads of the previous run: its spec, fingerprint, releases and effect (not the whole result). */
 type PreviousRun = Pick<StudyRun, 'id' | 'spec' | 'fingerprint' | 'releaseIds'> & { result: { effect: unknown } }
 
-/**
- * The run of the same design just before `runId` (or the newest), as much as compareRuns needs;
- * named, so each connection parses and plans it once (it is read with every run).
- */
-async function previousRun(studyId: number, design: StudyRun['design'], runId?: number): Promise<PreviousRun | undefined> {
+/** The run of the same design just before `runId`, as much as compareRuns needs (named: parsed and planned once a connection). */
+async function previousRun(studyId: number, design: StudyRun['design'], runId: number): Promise<PreviousRun | undefined> {
   const { rows: [previous] } = await usePool().query<Omit<PreviousRun, 'result'> & { effect: unknown }>({
     name: 'previous_run',
     text: `SELECT id, spec, fingerprint, release_ids AS "releaseIds", result -> 'effect' AS effect FROM study_runs
            WHERE study_id = $1 AND design = $2 AND id < $3 ORDER BY id DESC LIMIT 1`,
-    values: [studyId, design, runId ?? 2 ** 31 - 1],
+    values: [studyId, design, runId],
   })
   return previous && { id: previous.id, spec: previous.spec, fingerprint: previous.fingerprint, releaseIds: previous.releaseIds, result: { effect: previous.effect } }
 }
@@ -121,32 +118,35 @@ export async function createRun(study: Study, user: Pick<SessionUser, 'id' | 'na
   // the placebo gap paths go in a column of their own, as bytes, read only by the chart
   let gapPaths: Buffer | null
   ;({ result, paths: gapPaths } = splitGapPaths(result))
-  let previous: Promise<PreviousRun | undefined> | undefined
+  type Stored = { id: number, createdAt: Date, previous: (Omit<PreviousRun, 'result' | 'releaseIds'> & { release_ids: number[], effect: unknown }) | null }
   const stored = await changeStudy(study.id, null, async (client) => {
-    // with the study locked no other run of it can land before this one commits: the previous run
-    // of the design is the newest one committed now, read on another connection meanwhile
-    previous = previousRun(study.id, design)
-    previous.catch(() => {}) // awaited below; a failed transaction must not leave it unhandled
-    // the run and its audit entry in one statement
-    const { rows: [row] } = await client.query<{ id: number, createdAt: Date }>({
+    // the run, its audit entry and the previous run of the design in one statement: with the study
+    // locked no other run of it can commit meanwhile, and the statement's snapshot, taken under the
+    // lock, holds every earlier run but not this one
+    const { rows: [row] } = await client.query<Stored>({
       name: 'run_insert',
-      text: `WITH run AS (
+      text: `WITH previous AS (
+         SELECT id, spec, fingerprint, release_ids, result -> 'effect' AS effect FROM study_runs
+         WHERE study_id = $1 AND design = $2 ORDER BY id DESC LIMIT 1),
+       run AS (
          INSERT INTO study_runs (study_id, design, spec, fingerprint, release_ids, data, result, gap_paths, created_by)
          VALUES ($1, $2, $3::jsonb, $4, $5::jsonb, $6::jsonb, $7::jsonb, $8, $9) RETURNING id, created_at),
        logged AS (
          INSERT INTO audit_log (user_id, action, entity, entity_id, after)
          SELECT $9, 'run', 'study', $1::text, jsonb_build_object('runId', run.id) || $10::jsonb FROM run)
-       SELECT id, created_at AS "createdAt" FROM run`,
+       SELECT id, created_at AS "createdAt", (SELECT row_to_json(previous) FROM previous) AS previous FROM run`,
       values: [study.id, design, JSON.stringify(spec), fingerprint, JSON.stringify(read.releaseIds), JSON.stringify(data), JSON.stringify(result), gapPaths, userId,
         JSON.stringify({ design, fingerprint, releaseIds: read.releaseIds, effect: result.effect })],
     })
     return row!
   })
+  const p = stored.previous
+  const previous: PreviousRun | undefined = p ? { id: p.id, spec: p.spec, fingerprint: p.fingerprint, releaseIds: p.release_ids, result: { effect: p.effect } } : undefined
   // answered from what was just stored (reading the run back would parse its JSON twice more)
   // in the form a read gives (jsonb orders object keys): the reply equals a later GET of the run
   // (of the data, present() sends the releases and the units, so only they are put in that form)
   const run: RunRow = { id: stored.id, studyId: study.id, design, spec: asStoredJson(spec), fingerprint, releaseIds: read.releaseIds, data: { ...data, releases: asStoredJson(data.releases) }, result: asStoredJson(result), createdAt: stored.createdAt, createdBy: userId, createdByName: user.name }
-  return present(run, await previous)
+  return present(run, previous)
 }
 
 export async function listRuns(studyId: number) {
