@@ -6,7 +6,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { as, type Client } from '../support/http'
 import { closePool } from '../support/db'
-import { importedRelease, monthlyPanelRegistry, runTag } from '../support/uploads'
+import { importedRelease, monthlyPanelStudy, MONTHS_2020_2021 as months, runTag } from '../support/uploads'
 
 let admin: Client
 let analyst: Client
@@ -17,7 +17,6 @@ const T = `K${tag}-T`
 const donors = [1, 2, 3].map(n => `K${tag}-C${n}`)
 const key = `visits_${tag.toLowerCase()}`
 const mapping = { layout: 'long', jurisdiction: 'code', period: 'month', values: { value: key } }
-const months = Array.from({ length: 24 }, (_, i) => `${2020 + Math.floor(i / 12)}-${String((i % 12) + 1).padStart(2, '0')}`)
 const csv = (codes: string[]) => `code,month,value\n${codes.flatMap((c, u) => months.map((m, i) => `${c},${m},${40 + 2 * u + 0.3 * i + ((i * 5 + u) % 3)}`)).join('\n')}\n`
 
 const release = (codes: string[], label: string) => importedRelease(analyst, sourceId, csv(codes), label, mapping)
@@ -29,11 +28,7 @@ const candidates = async () => {
 
 beforeAll(async () => {
   ;[admin, analyst] = await Promise.all([as('admin'), as('analyst')])
-  sourceId = await monthlyPanelRegistry(admin, [T, ...donors], key, 'Visits', `Visits office ${tag}`)
-  await release([T, ...donors], 'first')
-  const s = await analyst.post('/api/studies', { title: `Visits ${tag}`, outcome: key, treated: [T], start: '2021-01' })
-  expect(s.status, JSON.stringify(s.body)).toBe(201)
-  studyId = s.body.id
+  ;({ sourceId, studyId } = await monthlyPanelStudy(admin, analyst, { treated: T, donors, key, label: 'Visits', sourceName: `Visits office ${tag}`, file: csv([T, ...donors]), mapping }))
 })
 afterAll(closePool)
 

@@ -7,7 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { as, type Client } from '../support/http'
 import { closePool } from '../support/db'
-import { importedRelease, monthlyPanelRegistry, runTag } from '../support/uploads'
+import { importedRelease, monthlyPanelStudy, MONTHS_2020_2021 as months, runTag } from '../support/uploads'
 import { readRowsBack } from '../support/studies'
 import { fingerprintRows } from '../../server/services/studies/fingerprint'
 
@@ -21,7 +21,6 @@ const T = `F${tag}-T`
 const donors = [1, 2, 3, 4].map(n => `F${tag}-C${n}`)
 const key = `claims_${tag.toLowerCase()}`
 const mapping = { layout: 'long', jurisdiction: 'code', period: 'month', values: { value: key } }
-const months = Array.from({ length: 24 }, (_, i) => `${2020 + Math.floor(i / 12)}-${String((i % 12) + 1).padStart(2, '0')}`)
 
 function value(code: string, i: number) {
   const u = [T, ...donors].indexOf(code)
@@ -42,11 +41,7 @@ async function run() {
 
 beforeAll(async () => {
   ;[admin, analyst] = await Promise.all([as('admin'), as('analyst')])
-  sourceId = await monthlyPanelRegistry(admin, [T, ...donors], key, 'Claims', `Claims office ${tag}`)
-  await release(csv(allRows()), 'first')
-  const s = await analyst.post('/api/studies', { title: `Claims ${tag}`, outcome: key, treated: [T], start: '2021-01' })
-  expect(s.status, JSON.stringify(s.body)).toBe(201)
-  studyId = s.body.id
+  ;({ sourceId, studyId } = await monthlyPanelStudy(admin, analyst, { treated: T, donors, key, label: 'Claims', sourceName: `Claims office ${tag}`, file: csv(allRows()), mapping }))
 })
 afterAll(closePool)
 

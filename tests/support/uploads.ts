@@ -51,6 +51,21 @@ export async function monthlyPanelRegistry(admin: Client, codes: string[], key: 
   return source.body.id as number
 }
 
+/** The 24 months of 2020 and 2021, as periods. */
+export const MONTHS_2020_2021 = Array.from({ length: 24 }, (_, i) => `${2020 + Math.floor(i / 12)}-${String((i % 12) + 1).padStart(2, '0')}`)
+
+/**
+ * A small monthly panel set up through the API: the registry (monthlyPanelRegistry), a first
+ * release of `file` imported, and `analyst`'s study of `treated` from 2021-01 on the measure.
+ */
+export async function monthlyPanelStudy(admin: Client, analyst: Client, p: { treated: string, donors: string[], key: string, label: string, sourceName: string, file: string, mapping: unknown }): Promise<{ sourceId: number, studyId: number }> {
+  const sourceId = await monthlyPanelRegistry(admin, [p.treated, ...p.donors], p.key, p.label, p.sourceName)
+  await importedRelease(analyst, sourceId, p.file, 'first', p.mapping)
+  const study = await analyst.post('/api/studies', { title: `${p.label} ${p.sourceName}`, outcome: p.key, treated: [p.treated], start: '2021-01' })
+  expect(study.status, JSON.stringify(study.body)).toBe(201)
+  return { sourceId, studyId: study.body.id as number }
+}
+
 /** Row counts and a content hash of every table an upload may touch. */
 export async function dataFingerprint() {
   const [row] = await sql(`SELECT
